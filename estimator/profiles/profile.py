@@ -1,0 +1,248 @@
+"""The validated composition of one or more samples: the core type of fame-estimator.
+
+A :class:`Profile` holds, for each sample, the mass % of every species of the
+species table on the FAME basis (rows sum to 100), the sample's metadata
+(feedstock, supplier, price, FFA ...) untouched, and a note of everything that was
+done to the numbers on the way in (renormalisation, excluded unidentified mass,
+basis conversion). It is built only through :meth:`Profile.from_frame` or
+:meth:`Profile.from_oils`, which validate.
+
+Unidentified mass (an ``other`` column) counts towards the sum check, is then
+excluded, and the identified species are renormalised to 100; the note records
+how much was excluded.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from estimator.errors import ProfileError, UnknownNameError
+from estimator.properties.descriptors import BASES, convert_basis
+from estimator.tables import load_table, species_keys
+
+__all__ = ["DEFAULT_SUM_TOLERANCE", "Profile", "oil_names"]
+
+#: Largest distance of a composition sum from 100 that is renormalised [percentage points].
+DEFAULT_SUM_TOLERANCE = 2.0
+
+
+@dataclass(frozen=True)
+class Profile:
+    """Samples x species mass % on FAME basis, with metadata and provenance notes."""
+
+    composition: pd.DataFrame
+    metadata: pd.DataFrame = field(repr=False)
+    notes: pd.Series = field(repr=False)
+    source: str = ""
+    rows: pd.Series = field(default=None, repr=False)  # type: ignore[assignment]
+
+    # ------------------------------------------------------------------ build
+    @classmethod
+    def from_frame(
+        cls,
+        composition: pd.DataFrame,
+        *,
+        basis: str = "fame",
+        sum_tolerance: float = DEFAULT_SUM_TOLERANCE,
+        other: pd.Series | None = None,
+        metadata: pd.DataFrame | None = None,
+        source: str = "",
+        rows: Sequence[int] | None = None,
+        notes: Sequence[str] | None = None,
+    ) -> Profile:
+        """Validate a samples x species-key frame of mass % and build a Profile.
+
+        Parameters
+        ----------
+        composition : DataFrame
+            Index: sample ids; columns: species keys (any subset, any order). [wt %]
+        basis : {'fame', 'fatty-acid', 'oil'}
+            What the numbers are mass % of: methyl esters, free fatty acids, or the
+            triglyceride oil. Converted exactly to the FAME basis.
+        sum_tolerance : float
+            Sums within this many points of 100 are renormalised with a note;
+            beyond it the sample is refused. [percentage points]
+        other : Series, optional
+            Unidentified mass per sample (counted in the sum, then excluded). [wt %]
+        metadata : DataFrame, optional
+            Carried through untouched, same index.
+        source, rows
+            File label and the file row of each sample, for messages.
+        """
+        if basis not in BASES:
+            raise UnknownNameError(f"unknown basis {basis!r}; use one of {', '.join(BASES)}")
+        if not sum_tolerance >= 0:
+            raise ProfileError(f"sum tolerance must be a non-negative number, got {sum_tolerance}")
+        keys = species_keys()
+        unknown = [c for c in composition.columns if c not in keys]
+        if unknown:
+            raise ProfileError(f"{_where(source)}not species keys: {', '.join(map(str, unknown))}")
+        n = len(composition)
+        label = source or "input"
+        if n == 0:
+            raise ProfileError(f"{label}: no samples")
+        ids = pd.Index([str(i) for i in composition.index], name="sample")
+        rows_s = pd.Series(list(rows) if rows is not None else range(1, n + 1), index=ids)
+        dup = ids[ids.duplicated()]
+        if len(dup):
+            first = dup[0]
+            where = ", ".join(f"row {r}" for r in rows_s[ids == first].tolist())
+            raise ProfileError(f"{_where(source)}duplicate sample id {first!r} ({where})")
+        values = composition.reindex(columns=list(keys), fill_value=0.0).to_numpy(dtype=float)
+        values = np.where(np.isnan(values), 0.0, values)
+        extra = np.zeros(n) if other is None else np.nan_to_num(other.to_numpy(dtype=float))
+        _check_negative(values, extra, ids, rows_s, keys, source)
+        identified = values.sum(axis=1)
+        total = identified + extra
+        off = np.abs(total - 100.0) > sum_tolerance + 1e-9
+        if off.any():
+            i = int(np.argmax(off))
+            raise ProfileError(
+                f"{_where(source)}row {rows_s.iloc[i]} (sample {ids[i]!r}): composition sums to "
+                f"{total[i]:.2f} wt%, more than {sum_tolerance:g} points from 100; "
+                "add an 'other' column for unidentified peaks or raise --sum-tolerance"
+            )
+        if (identified <= 0).any():
+            i = int(np.argmax(identified <= 0))
+            raise ProfileError(
+                f"{_where(source)}row {rows_s.iloc[i]} (sample {ids[i]!r}): no identified species"
+            )
+        note_list = [[] for _ in range(n)] if notes is None else [[s] if s else [] for s in notes]
+        for i in range(n):
+            if extra[i] > 0:
+                note_list[i].append(
+                    f"{extra[i]:.2f} wt% unidentified excluded, rest renormalised to 100"
+                )
+            elif abs(identified[i] - 100.0) > 1e-6:
+                note_list[i].append(f"sum {identified[i]:.2f} renormalised to 100")
+        values = 100.0 * values / identified[:, None]
+        if basis != "fame":
+            values = convert_basis(values, basis, "fame")
+            for i in range(n):
+                note_list[i].append(f"converted from {basis} basis")
+        frame = pd.DataFrame(values, index=ids, columns=list(keys))
+        meta = (
+            pd.DataFrame(index=ids)
+            if metadata is None
+            else metadata.set_axis(ids, axis=0).copy()
+        )
+        notes_s = pd.Series(["; ".join(x) for x in note_list], index=ids, dtype=object)
+        return cls(frame, meta, notes_s, source, rows_s)
+
+    @classmethod
+    def from_oils(cls, names: Iterable[str]) -> Profile:
+        """Typical profiles of built-in feedstocks by name (see ``fame-estimator oils``)."""
+        table = load_table("feedstocks")
+        lookup = {_oil_key(n): n for n in table["oil"]}
+        rows, picked = [], []
+        for name in names:
+            key = lookup.get(_oil_key(name))
+            if key is None:
+                import difflib
+
+                close = difflib.get_close_matches(_oil_key(name), list(lookup), n=3, cutoff=0.5)
+                hint = f"; close matches: {', '.join(lookup[c] for c in close)}" if close else ""
+                raise UnknownNameError(
+                    f"unknown oil {name!r}{hint}; 'fame-estimator oils' lists the built-in oils"
+                )
+            picked.append(key)
+            rows.append(table.loc[table["oil"] == key].iloc[0])
+        df = pd.DataFrame(rows).set_index("oil")
+        keys = [k for k in species_keys() if k in df.columns]
+        comp = df[keys].astype(float).fillna(0.0)
+        other = df["other"].astype(float).fillna(0.0) if "other" in df.columns else None
+        meta = pd.DataFrame(
+            {"feedstock": df["feedstock"].to_numpy(), "profile_source": df["source"].to_numpy()},
+            index=comp.index,
+        )
+        return cls.from_frame(
+            comp, basis="fatty-acid", other=other, metadata=meta, source="built-in oils",
+            sum_tolerance=10.0,
+        )
+
+    @classmethod
+    def concat(cls, profiles: Sequence[Profile]) -> Profile:
+        """Stack several profiles; sample ids must stay unique."""
+        if len(profiles) == 1:
+            return profiles[0]
+        comp = pd.concat([p.composition for p in profiles])
+        dup = comp.index[comp.index.duplicated()]
+        if len(dup):
+            raise ProfileError(
+                f"sample id {dup[0]!r} appears in more than one input; rename one of them"
+            )
+        meta = pd.concat([p.metadata for p in profiles])
+        notes = pd.concat([p.notes for p in profiles])
+        rows = pd.concat([p.rows for p in profiles])
+        return cls(comp, meta, notes, ", ".join(p.source for p in profiles), rows)
+
+    # ------------------------------------------------------------------ views
+    @property
+    def samples(self) -> list[str]:
+        """Sample ids in order."""
+        return list(self.composition.index)
+
+    @property
+    def wt_pct(self) -> np.ndarray:
+        """FAME mass % as an (n_samples, n_species) array in species-table order."""
+        return self.composition.to_numpy(dtype=float)
+
+    def __len__(self) -> int:
+        return len(self.composition)
+
+    def present_species(self, threshold: float = 0.0) -> list[str]:
+        """Species keys above ``threshold`` wt % in at least one sample."""
+        mask = (self.composition > threshold).any(axis=0)
+        return list(self.composition.columns[mask])
+
+    def on_basis(self, basis: str) -> pd.DataFrame:
+        """The composition converted to another basis (fame, fatty-acid or oil) [wt %]."""
+        return pd.DataFrame(
+            convert_basis(self.wt_pct, "fame", basis),
+            index=self.composition.index,
+            columns=self.composition.columns,
+        )
+
+    def subset(self, samples: Sequence[str]) -> Profile:
+        """A profile with only the named samples, in that order."""
+        idx = list(samples)
+        return Profile(
+            self.composition.loc[idx],
+            self.metadata.loc[idx],
+            self.notes.loc[idx],
+            self.source,
+            self.rows.loc[idx],
+        )
+
+
+def oil_names() -> list[str]:
+    """Names of the built-in feedstock profiles."""
+    return list(load_table("feedstocks")["oil"])
+
+
+def _oil_key(name: str) -> str:
+    return "".join(ch for ch in name.lower() if ch.isalnum())
+
+
+def _where(source: str) -> str:
+    return f"{source}: " if source else ""
+
+
+def _check_negative(values, extra, ids, rows, keys, source) -> None:
+    bad = values < 0
+    if bad.any():
+        i, j = np.argwhere(bad)[0]
+        raise ProfileError(
+            f"{_where(source)}row {rows.iloc[i]}, column {keys[j]!r} (sample {ids[i]!r}): "
+            f"negative value {values[i, j]:g}"
+        )
+    if (extra < 0).any():
+        i = int(np.argmax(extra < 0))
+        raise ProfileError(
+            f"{_where(source)}row {rows.iloc[i]}, column 'other' (sample {ids[i]!r}): "
+            f"negative value {extra[i]:g}"
+        )

@@ -1,0 +1,121 @@
+"""Write tables to CSV, XLSX or JSON atomically, and format them for the terminal."""
+
+from __future__ import annotations
+
+import math
+import os
+import tempfile
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from estimator.errors import UsageError
+
+__all__ = ["TABLE_SUFFIXES", "atomic_write", "format_table", "write_table"]
+
+TABLE_SUFFIXES = (".csv", ".xlsx", ".json")
+
+
+def atomic_write(path: str | Path, writer: Callable[[Path], None]) -> Path:
+    """Call ``writer(tmp)`` on a temporary file beside ``path``, then rename it into place.
+
+    A reader never sees a half-written file, and a failure leaves any old file intact.
+    """
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp_name = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    os.close(fd)
+    tmp = Path(tmp_name)
+    try:
+        writer(tmp)
+        os.replace(tmp, path)
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+    return path
+
+
+def write_table(
+    frame: pd.DataFrame, path: str | Path, *, sheets: dict[str, pd.DataFrame] | None = None
+) -> Path:
+    """Write a table by the file extension: ``.csv``, ``.xlsx`` or ``.json`` (records).
+
+    ``sheets`` adds further named sheets to an XLSX file (ignored for CSV/JSON).
+    """
+    path = Path(path)
+    suffix = path.suffix.lower()
+    if suffix not in TABLE_SUFFIXES:
+        raise UsageError(
+            f"cannot write {path.name!r}: use an output file ending in {', '.join(TABLE_SUFFIXES)}"
+        )
+
+    def write(tmp: Path) -> None:
+        if suffix == ".csv":
+            frame.to_csv(tmp, index=False, float_format="%.6g")
+        elif suffix == ".xlsx":
+            with pd.ExcelWriter(tmp, engine="openpyxl") as xl:
+                frame.to_excel(xl, sheet_name="table", index=False)
+                for name, extra in (sheets or {}).items():
+                    extra.to_excel(xl, sheet_name=name[:31], index=False)
+        else:
+            tmp.write_text(frame.to_json(orient="records", indent=1, double_precision=6) + "\n",
+                           encoding="utf-8")
+
+    return atomic_write(path, write)
+
+
+def _fmt(value: object, digits: int = 4) -> str:
+    if isinstance(value, (float, np.floating)):
+        if math.isnan(value):
+            return "-"
+        if value == 0:
+            return "0"
+        mag = abs(value)
+        if mag >= 1000:
+            return f"{value:.0f}"
+        return f"{value:.{max(0, digits - 1 - int(math.floor(math.log10(mag))))}f}" if mag >= 1e-3 \
+            else f"{value:.2e}"
+    if isinstance(value, (bool, np.bool_)):
+        return "yes" if value else "no"
+    return "" if value is None else str(value)
+
+
+def format_table(frame: pd.DataFrame, *, transpose: bool | None = None, digits: int = 4) -> str:
+    """A plain fixed-width text rendering of a table for the terminal.
+
+    With ``transpose`` (default: when there are more columns than rows and more than
+    eight columns) samples become columns and quantities rows, which keeps a wide
+    property table readable in 80-100 columns.
+    """
+    if frame.empty:
+        return "(no rows)"
+    if transpose is None:
+        transpose = frame.shape[1] > 8 and frame.shape[1] > frame.shape[0]
+    cells = frame.map(lambda v: _fmt(v, digits))
+    if transpose:
+        first = cells.columns[0]
+        body = cells.set_index(first).T
+        body.index.name = first
+        body = body.reset_index()
+        cells = body
+        cells.columns = [str(c) for c in cells.columns]
+    cols = [str(c) for c in cells.columns]
+    widths = [max(len(c), *(len(v) for v in cells[col])) for c, col in zip(cols, cells.columns)]
+    numeric = [all(_looks_numeric(v) for v in cells[col]) for col in cells.columns]
+    lines = ["  ".join(c.ljust(w) for c, w in zip(cols, widths)).rstrip()]
+    lines.append("  ".join("-" * w for w in widths))
+    for _, row in cells.iterrows():
+        parts = [v.rjust(w) if num else v.ljust(w) for v, w, num in zip(row, widths, numeric)]
+        lines.append("  ".join(parts).rstrip())
+    return "\n".join(lines)
+
+
+def _looks_numeric(text: str) -> bool:
+    t = text.replace("±", "").replace(" ", "")
+    try:
+        float(t.split("±")[0]) if t not in ("-", "") else 0.0
+    except ValueError:
+        return False
+    return True

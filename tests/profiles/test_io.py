@@ -1,0 +1,151 @@
+"""Reading profile files: formats, layouts, notations, metadata, and every bad input."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from estimator.errors import EstimatorError
+from estimator.profiles.io import read_profile
+from estimator.tables import species_keys
+
+ROOT = Path(__file__).resolve().parents[2]
+KEYS = species_keys()
+
+
+def write(tmp_path: Path, name: str, text: str) -> Path:
+    path = tmp_path / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+def pct(profile, sample, key):
+    return profile.composition.loc[sample, key]
+
+
+WIDE = "lot,supplier,price_per_t,C16:0,C18:0,C18:1,C18:2,C18:3\nA,Acme,900,10,4,24,54,8\n"
+
+
+def test_wide_csv_with_metadata_carried_through(tmp_path):
+    p = read_profile(write(tmp_path, "w.csv", WIDE))
+    assert p.samples == ["A"]
+    assert pct(p, "A", "C18:2") == pytest.approx(54)
+    assert p.metadata.loc["A", "supplier"] == "Acme"
+    assert p.metadata.loc["A", "price_per_t"] == 900
+
+
+def test_semicolon_file_with_decimal_commas_as_european_software_writes_it():
+    # data/examples/gc_report_semicolon.csv: semicolons, decimal commas, mixed notation
+    p = read_profile(ROOT / "data" / "examples" / "gc_report_semicolon.csv")
+    assert p.samples == ["RAP-2026-114", "RAP-2026-115"]
+    raw = {"C16:0": 4.4, "C18:0": 1.6, "C18:1": 61.9, "C18:2": 19.8, "C18:3": 9.3, "C20:1": 1.2}
+    total = sum(raw.values())
+    assert pct(p, "RAP-2026-114", "C18:1") == pytest.approx(100 * 61.9 / total)
+    assert "1.80 wt% unidentified excluded" in p.notes["RAP-2026-114"]
+
+
+def test_tsv_file(tmp_path):
+    p = read_profile(write(tmp_path, "w.tsv", WIDE.replace(",", "\t")))
+    assert pct(p, "A", "C16:0") == pytest.approx(10)
+
+
+def test_long_layout_with_methyl_ester_names():
+    p = read_profile(ROOT / "data" / "examples" / "gc_report_long.csv")
+    assert p.samples == ["tank-7", "tank-8"]
+    assert pct(p, "tank-8", "C18:3") == pytest.approx(100 * 9.2 / 98.0)
+
+
+def test_xlsx_file(tmp_path):
+    path = tmp_path / "w.xlsx"
+    pd.DataFrame({"sample": ["x"], "oleic": [80.0], "palmitic": [20.0]}).to_excel(
+        path, index=False
+    )
+    p = read_profile(path)
+    assert pct(p, "x", "C18:1") == pytest.approx(80)
+
+
+def test_json_records_and_samples_object(tmp_path):
+    a = write(tmp_path, "a.json", json.dumps([{"sample": "j", "C18:1": 70, "C16:0": 30}]))
+    b = write(tmp_path, "b.json", json.dumps(
+        {"samples": [{"sample": "j", "supplier": "Z", "composition": {"C18:1": 70, "C16:0": 30}}]}
+    ))
+    pa, pb = read_profile(a), read_profile(b)
+    np.testing.assert_allclose(pa.wt_pct, pb.wt_pct)
+    assert pb.metadata.loc["j", "supplier"] == "Z"
+
+
+def test_not_detected_cells_count_as_zero(tmp_path):
+    p = read_profile(write(tmp_path, "nd.csv", "sample,C16:0,C18:1,C18:3\nq,20,80,ND\n"))
+    assert pct(p, "q", "C18:3") == 0
+
+
+def test_fatty_acid_basis_is_converted(tmp_path):
+    path = write(tmp_path, "fa.csv", "sample,C12:0,C18:1\nq,50,50\n")
+    p = read_profile(path, basis="fatty-acid")
+    m12, m18 = 50 / 200.322 * 214.349, 50 / 282.468 * 296.495  # stoichiometry
+    assert pct(p, "q", "C12:0") == pytest.approx(100 * m12 / (m12 + m18), rel=1e-5)
+
+
+def test_input_file_is_never_modified(tmp_path):
+    path = write(tmp_path, "w.csv", "sample,C16:0,C18:1\nq,10,89\n")
+    before = hashlib.sha256(path.read_bytes()).hexdigest()
+    read_profile(path)
+    assert hashlib.sha256(path.read_bytes()).hexdigest() == before
+
+
+BAD = [
+    ("text in a number cell", "s.csv", "sample,C16:0,C18:1\na,10,90\nb,abc,90\n",
+     "s.csv: row 3, column 'C16:0': 'abc' is not a number"),
+    ("negative value", "s.csv", "sample,C16:0,C18:1\na,-5,105\n",
+     "s.csv: row 2, column 'C16:0': negative value -5"),
+    ("duplicate species columns", "s.csv", "sample,C18:1,oleic,C16:0\na,40,40,20\n",
+     "s.csv: columns 'C18:1' and 'oleic' are both C18:1; keep one of them"),
+    ("duplicate sample ids", "s.csv", "sample,C16:0,C18:1\na,10,90\na,20,80\n",
+     "s.csv: duplicate sample id 'a' (row 2, row 3)"),
+    ("sum out of tolerance", "s.csv", "sample,C16:0,C18:1\na,10,80\n",
+     "s.csv: row 2 (sample 'a'): composition sums to 90.00 wt%, more than 2 points from 100; "
+     "add an 'other' column for unidentified peaks or raise --sum-tolerance"),
+    ("header only", "s.csv", "sample,C16:0,C18:1\n",
+     "s.csv: the file has a header but no data rows"),
+    ("no species columns", "s.csv", "sample,supplier\na,b\n",
+     "s.csv: no species columns found (expected headers such as C16:0, C18:1, oleic)"),
+    ("unknown file type", "s.dat", "x", "s.dat: unknown file type '.dat'; use .csv, .tsv, .txt, "
+     ".xlsx or .json"),
+    ("broken json", "s.json", "{not json", None),
+    ("empty sample id", "s.csv", "sample,C16:0,C18:1\n,10,90\n",
+     "s.csv: row 2, column 'sample': empty sample id"),
+    ("repeated header", "s.csv", "sample,C16:0,C16:0,C18:1\na,5,5,90\n",
+     "s.csv: column 'C16:0' appears twice"),
+]
+
+
+@pytest.mark.parametrize(("case", "name", "text", "message"), BAD, ids=[b[0] for b in BAD])
+def test_bad_input_gives_one_line_error_naming_file_row_and_column(tmp_path, case, name, text,
+                                                                    message):
+    path = write(tmp_path, name, text)
+    with pytest.raises(EstimatorError) as err:
+        read_profile(path)
+    text_ = str(err.value)
+    assert "\n" not in text_
+    if message is None:
+        assert text_.startswith(f"{name}: not valid JSON")
+    else:
+        assert text_ == message
+
+
+def test_empty_file_is_an_error(tmp_path):
+    path = write(tmp_path, "e.csv", "")
+    with pytest.raises(EstimatorError) as err:
+        read_profile(path)
+    assert str(err.value) == "e.csv: the file is empty"
+
+
+def test_missing_file_is_an_error(tmp_path):
+    with pytest.raises(EstimatorError) as err:
+        read_profile(tmp_path / "nope.csv")
+    assert str(err.value) == "nope.csv: no such file"

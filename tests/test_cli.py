@@ -1,0 +1,103 @@
+"""The command line as a user meets it: output, files written, and one-line errors."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+from estimator.cli import cli
+
+ROOT = Path(__file__).resolve().parents[1]
+LOTS = ROOT / "data" / "demo" / "lots.csv"
+
+
+def run(*args: str):
+    return CliRunner().invoke(cli, list(args))
+
+
+def test_predict_prints_a_readable_table_for_library_oils():
+    result = run("predict", "--oil", "rapeseed", "--oil", "soybean")
+    assert result.exit_code == 0, result.output
+    assert "iodine_value_gI2_100g" in result.output
+    assert "rapeseed" in result.output and "soybean" in result.output
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".xlsx", ".json"])
+def test_predict_writes_the_table_by_extension(tmp_path, suffix):
+    out = tmp_path / f"est{suffix}"
+    result = run("predict", str(LOTS), "-o", str(out))
+    assert result.exit_code == 0, result.output
+    if suffix == ".csv":
+        table = pd.read_csv(out)
+    elif suffix == ".xlsx":
+        table = pd.read_excel(out)
+    else:
+        table = pd.DataFrame(json.loads(out.read_text()))
+    assert list(table.columns[:2]) == ["sample", "mean_molar_mass_g_mol"]
+    assert len(table) == 7
+
+
+def test_bad_data_exits_1_with_one_line_on_stderr(tmp_path):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("sample,C16:0,C18:1\na,x,90\n")
+    result = CliRunner().invoke(cli, ["predict", str(bad)])
+    assert result.exit_code == 1
+    assert result.output == "fame-estimator: error: bad.csv: row 2, column 'C16:0': 'x' is not a number\n"
+
+
+def test_unknown_species_column_lists_close_matches(tmp_path):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("sample,C16:0,C19:0\na,50,50\n")
+    result = run("predict", str(bad))
+    assert result.exit_code == 1
+    assert result.output.startswith("fame-estimator: error: bad.csv: column 'C19:0': unknown species")
+    assert result.output.count("\n") == 1
+
+
+def test_unknown_oil_is_a_usage_error():
+    result = run("predict", "--oil", "soyabean")
+    assert result.exit_code == 2
+    assert result.output == (
+        "fame-estimator: error: unknown oil 'soyabean'; close matches: soybean; "
+        "'fame-estimator oils' lists the built-in oils\n"
+    )
+
+
+def test_predict_without_input_is_a_usage_error():
+    result = run("predict")
+    assert result.exit_code == 2
+    assert "give at least one INPUT file or --oil NAME" in result.output
+
+
+def test_unwritable_output_suffix_is_a_usage_error(tmp_path):
+    result = run("predict", "--oil", "palm", "-o", str(tmp_path / "x.txt"))
+    assert result.exit_code == 2
+    assert result.output == (
+        "fame-estimator: error: cannot write 'x.txt': use an output file ending in "
+        ".csv, .xlsx, .json\n"
+    )
+
+
+def test_oils_lists_the_library():
+    result = run("oils")
+    assert result.exit_code == 0
+    assert "linseed" in result.output and "C18:3" in result.output
+
+
+def test_python_dash_m_runs_the_cli():
+    done = subprocess.run([sys.executable, "-m", "estimator", "--version"], capture_output=True,
+                          text=True, check=True)
+    assert "fame-estimator" in done.stdout
+
+
+def test_cli_start_does_not_import_matplotlib_or_sklearn():
+    code = ("import sys; import estimator.cli; "
+            "print(any(m.split('.')[0] in ('matplotlib', 'sklearn') for m in sys.modules))")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.strip() == "False"
