@@ -14,9 +14,8 @@ from pathlib import Path
 import click
 
 from estimator import __version__
+from estimator.cliutil import CONTEXT, emit, input_options, load_inputs
 from estimator.errors import EstimatorError
-
-CONTEXT = {"help_option_names": ["-h", "--help"], "max_content_width": 100}
 
 
 class _Group(click.Group):
@@ -51,53 +50,12 @@ def main() -> None:
     cli(prog_name="fame-estimator")
 
 
-# ---------------------------------------------------------------- shared options
-def _input_options(func):
-    func = click.option(
-        "--sum-tolerance", type=float, default=2.0, show_default=True, metavar="POINTS",
-        help="Renormalise sums within this many points of 100; refuse beyond.",
-    )(func)
-    func = click.option(
-        "--basis", type=click.Choice(["fame", "fatty-acid", "oil"]), default="fame",
-        show_default=True, help="What the profile numbers are mass % of.",
-    )(func)
-    return func
-
-
-def _load(inputs: tuple[str, ...], oils: tuple[str, ...], basis: str, sum_tolerance: float):
-    from estimator.profiles.io import read_profile
-    from estimator.profiles.profile import Profile
-
-    if not inputs and not oils:
-        raise click.UsageError("give at least one INPUT file or --oil NAME")
-    parts = [read_profile(p, basis=basis, sum_tolerance=sum_tolerance) for p in inputs]
-    if oils:
-        parts.append(Profile.from_oils(oils))
-    return Profile.concat(parts)
-
-
-def _emit(frame, output: str | None, *, title: str = "", footer: str = "", sheets=None) -> None:
-    from estimator.report.tables import format_table, write_table
-
-    if output:
-        path = write_table(frame, output, sheets=sheets)
-        click.echo(f"wrote {path} ({len(frame)} rows)", err=True)
-        if footer:
-            click.echo(footer, err=True)
-        return
-    if title:
-        click.echo(title)
-    click.echo(format_table(frame))
-    if footer:
-        click.echo(footer)
-
-
 # ---------------------------------------------------------------- commands
 @cli.command(context_settings=CONTEXT)
 @click.argument("inputs", nargs=-1, type=click.Path(dir_okay=False))
 @click.option("--oil", "oils", multiple=True, metavar="NAME",
               help="A built-in typical profile (repeatable); see 'fame-estimator oils'.")
-@_input_options
+@input_options
 @click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json).")
 def predict(inputs, oils, basis, sum_tolerance, output) -> None:
     """Composition descriptors and fuel-property estimates for each sample.
@@ -110,9 +68,9 @@ def predict(inputs, oils, basis, sum_tolerance, output) -> None:
     """
     from estimator.workflows import predict_table
 
-    profile = _load(inputs, oils, basis, sum_tolerance)
+    profile = load_inputs(inputs, oils, basis, sum_tolerance)
     table = predict_table(profile)
-    _emit(table, output)
+    emit(table, output)
 
 
 @cli.command(context_settings=CONTEXT)
@@ -130,13 +88,13 @@ def oils(ranges, output) -> None:
 
     if ranges:
         table = load_table("feedstock_ranges").copy()
-        _emit(table, output)
+        emit(table, output)
         return
     table = load_table("feedstocks").copy()
     species = [c for c in table.columns if ":" in c]
     shown = table[["oil", *species, "other"]].fillna(0.0)
     if output:
-        _emit(table, output)
+        emit(table, output)
         return
     click.echo(
         "Typical fatty-acid profiles (wt % of total fatty acids; 'other' = acids the source\n"

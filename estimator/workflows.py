@@ -24,6 +24,12 @@ def descriptor_table(profile: Profile) -> pd.DataFrame:
 
 def predict_table(profile: Profile) -> pd.DataFrame:
     """The wide ``predict`` table: sample, descriptors, and the notes on each profile."""
+    from estimator.profiles.ranges import codex_warnings
+
     table = descriptor_table(profile)
-    table["notes"] = profile.notes.to_numpy()
+    warnings = codex_warnings(profile)
+    notes = [
+        "; ".join(x for x in (n, w) if x) for n, w in zip(profile.notes, warnings, strict=True)
+    ]
+    table["notes"] = notes
     return table
