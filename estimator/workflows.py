@@ -28,8 +28,12 @@ def predict_table(profile: Profile) -> pd.DataFrame:
 
     table = descriptor_table(profile)
     warnings = codex_warnings(profile)
-    notes = [
-        "; ".join(x for x in (n, w) if x) for n, w in zip(profile.notes, warnings, strict=True)
-    ]
-    table["notes"] = notes
+    notes = profile.notes.copy()
+    warned = (warnings != "").to_numpy()
+    if warned.any():
+        notes[warned] = [
+            f"{n}; {w}" if n else w
+            for n, w in zip(notes[warned].tolist(), warnings[warned].tolist(), strict=True)
+        ]
+    table["notes"] = notes.to_numpy()
     return table

@@ -48,7 +48,9 @@ def test_bad_data_exits_1_with_one_line_on_stderr(tmp_path):
     bad.write_text("sample,C16:0,C18:1\na,x,90\n")
     result = CliRunner().invoke(cli, ["predict", str(bad)])
     assert result.exit_code == 1
-    assert result.output == "fame-estimator: error: bad.csv: row 2, column 'C16:0': 'x' is not a number\n"
+    assert result.output == (
+        "fame-estimator: error: bad.csv: row 2, column 'C16:0': 'x' is not a number\n"
+    )
 
 
 def test_unknown_species_column_lists_close_matches(tmp_path):
@@ -56,7 +58,10 @@ def test_unknown_species_column_lists_close_matches(tmp_path):
     bad.write_text("sample,C16:0,C19:0\na,50,50\n")
     result = run("predict", str(bad))
     assert result.exit_code == 1
-    assert result.output.startswith("fame-estimator: error: bad.csv: column 'C19:0': unknown species")
+    assert result.output == (
+        "fame-estimator: error: bad.csv: column 'C19:0': unknown species 'C19:0'; "
+        "close matches: C18:0, C20:0\n"
+    )
     assert result.output.count("\n") == 1
 
 

@@ -297,7 +297,7 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns) ->
     meta.index = ids
     return Profile.from_frame(
         composition, basis=basis, sum_tolerance=sum_tolerance, other=other, metadata=meta,
-        source=label, rows=list(rows),
+        source=label, rows=rows,
     )
 
 

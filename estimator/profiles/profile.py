@@ -28,6 +28,8 @@ __all__ = ["DEFAULT_SUM_TOLERANCE", "Profile", "oil_names"]
 
 #: Largest distance of a composition sum from 100 that is renormalised [percentage points].
 DEFAULT_SUM_TOLERANCE = 2.0
+#: Sums closer to 100 than this are rounding in the printed report: renormalised silently.
+RENORMALISE_NOTE_ABOVE = 0.005
 
 
 @dataclass(frozen=True)
@@ -85,15 +87,23 @@ class Profile:
         label = source or "input"
         if n == 0:
             raise ProfileError(f"{label}: no samples")
-        ids = pd.Index([str(i) for i in composition.index], name="sample")
-        rows_s = pd.Series(list(rows) if rows is not None else range(1, n + 1), index=ids)
+        ids = composition.index
+        if ids.dtype != object or not all(isinstance(i, str) for i in ids[:1]):
+            ids = ids.astype(str)
+        ids = pd.Index(ids, name="sample", dtype=object)
+        rows_s = pd.Series(
+            np.asarray(rows) if rows is not None else np.arange(1, n + 1), index=ids
+        )
         dup = ids[ids.duplicated()]
         if len(dup):
             first = dup[0]
             where = ", ".join(f"row {r}" for r in rows_s[ids == first].tolist())
             raise ProfileError(f"{_where(source)}duplicate sample id {first!r} ({where})")
-        values = composition.reindex(columns=list(keys), fill_value=0.0).to_numpy(dtype=float)
-        values = np.where(np.isnan(values), 0.0, values)
+        values = np.zeros((n, len(keys)))
+        position = {k: j for j, k in enumerate(keys)}
+        for col in composition.columns:
+            values[:, position[col]] = composition[col].to_numpy(dtype=float)
+        values[np.isnan(values)] = 0.0
         extra = np.zeros(n) if other is None else np.nan_to_num(other.to_numpy(dtype=float))
         _check_negative(values, extra, ids, rows_s, keys, source)
         identified = values.sum(axis=1)
@@ -111,26 +121,31 @@ class Profile:
             raise ProfileError(
                 f"{_where(source)}row {rows_s.iloc[i]} (sample {ids[i]!r}): no identified species"
             )
-        note_list = [[] for _ in range(n)] if notes is None else [[s] if s else [] for s in notes]
-        for i in range(n):
-            if extra[i] > 0:
-                note_list[i].append(
-                    f"{extra[i]:.2f} wt% unidentified excluded, rest renormalised to 100"
-                )
-            elif abs(identified[i] - 100.0) > 1e-6:
-                note_list[i].append(f"sum {identified[i]:.2f} renormalised to 100")
-        values = 100.0 * values / identified[:, None]
+        notes_s = pd.Series([""] * n if notes is None else list(notes), index=ids, dtype=object)
+        excluded = extra > 0
+        renormed = ~excluded & (np.abs(identified - 100.0) > RENORMALISE_NOTE_ABOVE)
+        if excluded.any():
+            notes_s[excluded] = _join(
+                notes_s[excluded],
+                [f"{v:.2f} wt% unidentified excluded, rest renormalised to 100"
+                 for v in extra[excluded]],
+            )
+        if renormed.any():
+            notes_s[renormed] = _join(
+                notes_s[renormed],
+                [f"sum {v:.2f} renormalised to 100" for v in identified[renormed]],
+            )
+        values *= (100.0 / identified)[:, None]  # in place: no second (n, species) array
         if basis != "fame":
             values = convert_basis(values, basis, "fame")
-            for i in range(n):
-                note_list[i].append(f"converted from {basis} basis")
-        frame = pd.DataFrame(values, index=ids, columns=list(keys))
+            notes_s[:] = _join(notes_s, [f"converted from {basis} basis"] * n)
+        values.setflags(write=False)
+        frame = pd.DataFrame(values, index=ids, columns=list(keys), copy=False)
         meta = (
             pd.DataFrame(index=ids)
             if metadata is None
             else metadata.set_axis(ids, axis=0).copy()
         )
-        notes_s = pd.Series(["; ".join(x) for x in note_list], index=ids, dtype=object)
         return cls(frame, meta, notes_s, source, rows_s)
 
     @classmethod
@@ -184,7 +199,7 @@ class Profile:
     @property
     def samples(self) -> list[str]:
         """Sample ids in order."""
-        return list(self.composition.index)
+        return self.composition.index.tolist()
 
     @property
     def wt_pct(self) -> np.ndarray:
@@ -230,6 +245,10 @@ def _oil_key(name: str) -> str:
 
 def _where(source: str) -> str:
     return f"{source}: " if source else ""
+
+
+def _join(existing: pd.Series, new: list[str]) -> list[str]:
+    return [f"{a}; {b}" if a else b for a, b in zip(existing.tolist(), new, strict=True)]
 
 
 def _check_negative(values, extra, ids, rows, keys, source) -> None:

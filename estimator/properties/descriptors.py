@@ -288,7 +288,11 @@ def descriptors(wt_pct: np.ndarray) -> dict[str, np.ndarray]:
     total_moles = moles.sum(axis=1)
     out["mean_molar_mass_g_mol"] = w.sum(axis=1) / total_moles
     out["mean_chain_length_carbons"] = (moles @ a["C"]) / total_moles
-    out["iodine_value_oil_gI2_100g"] = iodine_value(to_oil_basis(w), "oil")
+    # IV of the parent oil without forming the oil-basis matrix: the iodine per chain is the
+    # same, only the mass carrying it changes (M_oil instead of M_fame per chain).
+    out["iodine_value_oil_gI2_100g"] = out["iodine_value_gI2_100g"] * w.sum(axis=1) / (
+        w @ (a["M_oil"] / a["M_fame"])
+    )
     return {k: out[k] for k in DESCRIPTOR_UNITS}
 
 
