@@ -1,0 +1,481 @@
+"""Cold-flow properties of FAME: cold filter plugging point, cloud point, pour point.
+
+Two kinds of method live here: empirical fits on composition descriptors
+(Ramos 2009, Sarin 2009) and the thermodynamic route, ideal solubility of each
+saturated ester (Schroeder-van Laar). The thermodynamic functions take *mole
+fractions of the saturated esters in the whole liquid*, so a blend with diesel
+can reuse them by diluting those mole fractions.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from estimator.tables import species_column
+
+__all__ = [
+    "GAS_CONSTANT_J_MOL_K",
+    "cfpp_from_cloud_point",
+    "cfpp_from_cloud_point_offset",
+    "ideal_solubility_temperature_C",
+    "imahara2006",
+    "mole_fractions",
+    "ramos2009",
+    "sarin2009_cloud_point",
+    "sarin2009_pour_point",
+    "saturated_ester_data",
+    "saturated_mole_fractions",
+]
+
+#: Molar gas constant [J/(mol K)] (CODATA 2018, exact).
+GAS_CONSTANT_J_MOL_K = 8.314462618
+ZERO_CELSIUS_K = 273.15
+
+# Ramos et al. 2009, CFPP against the long-chain saturated factor (MEMORY).
+RAMOS2009_SLOPE = 3.1417  # [degC per wt%]
+RAMOS2009_INTERCEPT = -16.477  # [degC]
+
+# CFPP from cloud point, the two equations quoted in [S21] (VERIFIED).
+S21_SLOPE = 1.0191  # first equation [1]
+S21_INTERCEPT = -2.9  # first equation [degC]
+S21_OFFSET = -4.5  # second equation, CFPP = CP - 4.5 [degC]
+
+# Sarin et al. 2009, palm-jatropha-pongamia blends (MEMORY, low confidence).
+SARIN2009_CP_SLOPE = 0.526  # cloud point [degC per wt% C16:0]
+SARIN2009_CP_INTERCEPT = -4.992  # [degC]
+SARIN2009_PP_SLOPE = 0.571  # pour point [degC per wt% C16:0]
+SARIN2009_PP_INTERCEPT = -12.240  # [degC]
+
+
+def ramos2009(lcsf_wt_pct):
+    r"""Cold filter plugging point from the long-chain saturated factor (Ramos 2009).
+
+    .. math::
+
+        CFPP = 3.1417\,LCSF - 16.477
+
+    Parameters
+    ----------
+    lcsf_wt_pct : array_like
+        Long-chain saturated factor, 0.1 C16:0 + 0.5 C18:0 + C20:0 + 1.5
+        C22:0 + 2 C24:0 (mass %). [wt %]
+
+    Returns
+    -------
+    cfpp_C : ndarray
+        Cold filter plugging point. [degC]
+
+    Notes
+    -----
+    Fitted on methyl esters of about ten C16-C18 vegetable oils; the largest
+    LCSF among such oils is palm (about 6.7), so tallow-like or long-chain
+    profiles are extrapolations. Published error: R^2 and range not recorded.
+    LCSF weights and coefficients: **MEMORY** (no page of the paper was
+    reached).
+
+    References
+    ----------
+    .. [1] Ramos M.J., Fernandez C.M., Casas A., Rodriguez L., Perez A.,
+       "Influence of fatty acid composition of raw materials on biodiesel
+       properties", Bioresour. Technol. 100 (2009) 261-268,
+       doi:10.1016/j.biortech.2008.06.039 (from memory).
+
+    Examples
+    --------
+    Palm methyl ester, LCSF = 0.1 x 44.0 + 0.5 x 4.5 = 6.65 (our arithmetic):
+
+    >>> round(float(ramos2009(6.65)), 2)
+    4.42
+    """
+    return RAMOS2009_SLOPE * np.asarray(lcsf_wt_pct, dtype=float) + RAMOS2009_INTERCEPT
+
+
+def cfpp_from_cloud_point(cloud_point_C):
+    r"""Cold filter plugging point from the cloud point (first equation of [S21]).
+
+    .. math::
+
+        CFPP = 1.0191\,CP - 2.9
+
+    Parameters
+    ----------
+    cloud_point_C : array_like
+        Cloud point. [degC]
+
+    Returns
+    -------
+    cfpp_C : ndarray
+        Cold filter plugging point. [degC]
+
+    Notes
+    -----
+    Quoted, with :func:`cfpp_from_cloud_point_offset`, in an abstract on
+    thermodynamic cloud points and CFPP of vegetable-oil and microalgae FAME;
+    the abstract says this first equation matched literature CFPPs of 22
+    microalgae FAME data sets, so it is the one used as a method. **VERIFIED
+    [S21]** (equation); authors, journal and error were not displayed.
+
+    References
+    ----------
+    .. [1] Abstract on estimated cloud points and CFPP of vegetable-oil and
+       microalgae FAME, correlations.md source [S21] (authors and journal
+       not shown).
+
+    Examples
+    --------
+    >>> round(float(cfpp_from_cloud_point(10.0)), 3)
+    7.291
+    """
+    return S21_SLOPE * np.asarray(cloud_point_C, dtype=float) + S21_INTERCEPT
+
+
+def cfpp_from_cloud_point_offset(cloud_point_C):
+    r"""Cold filter plugging point as cloud point minus 4.5 K (second equation of [S21]).
+
+    .. math::
+
+        CFPP = CP - 4.5
+
+    Parameters
+    ----------
+    cloud_point_C : array_like
+        Cloud point. [degC]
+
+    Returns
+    -------
+    cfpp_C : ndarray
+        Cold filter plugging point. [degC]
+
+    Notes
+    -----
+    **VERIFIED [S21]** (equation only; origin and error not stated there).
+    Kept available beside :func:`cfpp_from_cloud_point`, which [S21] reports
+    as validated.
+
+    References
+    ----------
+    .. [1] Abstract on estimated cloud points and CFPP of vegetable-oil and
+       microalgae FAME, correlations.md source [S21].
+
+    Examples
+    --------
+    >>> float(cfpp_from_cloud_point_offset(10.0))
+    5.5
+    """
+    return np.asarray(cloud_point_C, dtype=float) + S21_OFFSET
+
+
+def sarin2009_cloud_point(palmitate_wt_pct):
+    r"""Cloud point from the methyl palmitate content (Sarin 2009).
+
+    .. math::
+
+        CP = 0.526\,PAME - 4.992
+
+    Parameters
+    ----------
+    palmitate_wt_pct : array_like
+        Methyl palmitate (C16:0) content. [wt %]
+
+    Returns
+    -------
+    cloud_point_C : ndarray
+        Cloud point. [degC]
+
+    Notes
+    -----
+    Fitted on blends of palm, jatropha and pongamia biodiesel, i.e. roughly
+    9-45 wt % C16:0. Published error: not recorded. Coefficients: **MEMORY,
+    low confidence**.
+
+    References
+    ----------
+    .. [1] Sarin A. et al., "Effect of blends of palm-jatropha-pongamia biodiesels on cloud
+       point and pour point", Energy 34 (2009) 2016-2021 (from memory).
+
+    Examples
+    --------
+    Palm methyl ester with 44 wt % C16:0 (our arithmetic):
+
+    >>> round(float(sarin2009_cloud_point(44.0)), 3)
+    18.152
+    """
+    pame = np.asarray(palmitate_wt_pct, dtype=float)
+    return SARIN2009_CP_SLOPE * pame + SARIN2009_CP_INTERCEPT
+
+
+def sarin2009_pour_point(palmitate_wt_pct):
+    r"""Pour point from the methyl palmitate content (Sarin 2009).
+
+    .. math::
+
+        PP = 0.571\,PAME - 12.240
+
+    Parameters
+    ----------
+    palmitate_wt_pct : array_like
+        Methyl palmitate (C16:0) content. [wt %]
+
+    Returns
+    -------
+    pour_point_C : ndarray
+        Pour point. [degC]
+
+    Notes
+    -----
+    Same data set and domain as :func:`sarin2009_cloud_point` (about 9-45
+    wt % C16:0). Published error: not recorded. Coefficients: **MEMORY, low
+    confidence**.
+
+    References
+    ----------
+    .. [1] Sarin A. et al., Energy 34 (2009) 2016-2021 (from memory).
+
+    Examples
+    --------
+    >>> round(float(sarin2009_pour_point(44.0)), 3)
+    12.884
+    """
+    pame = np.asarray(palmitate_wt_pct, dtype=float)
+    return SARIN2009_PP_SLOPE * pame + SARIN2009_PP_INTERCEPT
+
+
+def mole_fractions(wt_pct):
+    r"""Mole fractions of the esters from FAME mass %.
+
+    .. math::
+
+        x_i = \frac{A_i / M_i}{\sum_j A_j / M_j}
+
+    Parameters
+    ----------
+    wt_pct : array_like
+        Composition, shape ``(n_samples, n_species)``. [wt %]
+
+    Returns
+    -------
+    mole_fraction : ndarray
+        Same shape as ``wt_pct``, rows summing to one. [mol/mol]
+
+    Notes
+    -----
+    Molar masses from ``species.csv`` (IUPAC conventional atomic weights).
+    Exact conversion (DERIVED); no fitted domain.
+
+    References
+    ----------
+    .. [1] IUPAC CIAAW, Prohaska T. et al., "Standard atomic weights of the
+       elements 2021", Pure Appl. Chem. 94 (2022) 573-600 (pages from memory).
+
+    Examples
+    --------
+    >>> from estimator.tables import species_keys
+    >>> w = np.zeros(len(species_keys()))
+    >>> w[[species_keys().index("C16:0"), species_keys().index("C18:0")]] = 50.0
+    >>> x = mole_fractions(w)
+    >>> round(float(x[species_keys().index("C16:0")]), 4)
+    0.5247
+    """
+    moles = np.asarray(wt_pct, dtype=float) / species_column("fame_molar_mass_g_mol")
+    return moles / moles.sum(axis=-1, keepdims=True)
+
+
+def saturated_ester_data():
+    r"""Species, melting points and enthalpies of fusion used by the solubility model.
+
+    .. math::
+
+        \mathcal{S} = \{ i : D_i = 0,\ T_{m,i} \text{ and } \Delta H_{fus,i} \text{ tabulated} \}
+
+    Returns
+    -------
+    index : ndarray of int
+        Column indices (into :func:`estimator.tables.species_keys`) of the
+        saturated esters C12:0-C24:0 that carry both values. [1]
+    melting_point_C : ndarray
+        Melting points of those esters. [degC]
+    enthalpy_fusion_kJ_mol : ndarray
+        Enthalpies of fusion of those esters. [kJ/mol]
+
+    Notes
+    -----
+    Melting points: CRC Handbook via chemicals 1.5.2 (VERIFIED [S29]); C15:0
+    and C17:0 interpolated (DERIVED). Enthalpies of fusion: C16:0 55.0 and
+    C18:0 64.0 kJ/mol **MEMORY**; the others DERIVED by a 4.5 kJ/mol CH2
+    increment (``fusion_source`` in ``species.csv``). C6:0-C10:0 melt below
+    -12 degC and carry no enthalpy of fusion, so they only act as solvent.
+
+    References
+    ----------
+    .. [1] Haynes W.M. (ed.), CRC Handbook of Chemistry and Physics, "Physical
+       Constants of Organic Compounds" (as shipped in chemicals 1.5.2).
+
+    Examples
+    --------
+    >>> from estimator.tables import species_keys
+    >>> idx, tm, dh = saturated_ester_data()
+    >>> [species_keys()[i] for i in idx][:3], float(tm[2]), float(dh[2])
+    (['C12:0', 'C14:0', 'C15:0'], 24.3, 50.5)
+    """
+    tm = species_column("melting_point_C")
+    dh = species_column("enthalpy_fusion_kJ_mol")
+    sat = species_column("double_bonds") == 0
+    idx = np.flatnonzero(sat & np.isfinite(tm) & np.isfinite(dh))
+    return idx, tm[idx], dh[idx]
+
+
+def ideal_solubility_temperature_C(mole_fraction, melting_point_C, enthalpy_fusion_kJ_mol):
+    r"""Saturation temperature of an ester in an ideal liquid (Schroeder-van Laar).
+
+    .. math::
+
+        \ln x_i = \frac{\Delta H_{fus,i}}{R}\left(\frac{1}{T_{m,i}} - \frac{1}{T_i}\right)
+        \;\Rightarrow\;
+        T_i = \left(\frac{1}{T_{m,i}} - \frac{R \ln x_i}{\Delta H_{fus,i}}\right)^{-1}
+
+    Parameters
+    ----------
+    mole_fraction : array_like
+        Mole fraction of the ester in the whole liquid; broadcasts against
+        the two per-ester arrays. [mol/mol]
+    melting_point_C : array_like
+        Melting point of the pure ester. [degC]
+    enthalpy_fusion_kJ_mol : array_like
+        Enthalpy of fusion of the pure ester. [kJ/mol]
+
+    Returns
+    -------
+    temperature_C : ndarray
+        Temperature at which the ester starts to crystallise; -273.15 for
+        ``mole_fraction == 0`` (the limit of the equation: an absent ester
+        never crystallises). [degC]
+
+    Notes
+    -----
+    Ideal liquid, pure solid, heat-capacity terms neglected: standard
+    solid-liquid equilibrium (form **MEMORY**, as applied to FAME by
+    Imahara et al. 2006). Saturated FAME binaries are not simple eutectics
+    (Costa et al., VERIFIED [S23]), so this is an approximation. No fitted
+    domain; the error is that of the approximation and of the pure-ester
+    data.
+
+    References
+    ----------
+    .. [1] Prausnitz J.M., Lichtenthaler R.N., de Azevedo E.G., Molecular
+       Thermodynamics of Fluid-Phase Equilibria, 3rd ed., Prentice Hall
+       (1999), ch. 11 (from memory).
+
+    Examples
+    --------
+    Methyl palmitate at x = 0.113 (about 10 wt % in soybean ester; our
+    arithmetic):
+
+    >>> round(float(ideal_solubility_temperature_C(0.113, 29.6, 55.0)), 2)
+    2.13
+    """
+    x = np.asarray(mole_fraction, dtype=float)
+    tm_k = np.asarray(melting_point_C, dtype=float) + ZERO_CELSIUS_K
+    dh = np.asarray(enthalpy_fusion_kJ_mol, dtype=float) * 1000.0
+    ln_x = np.log(x, out=np.full(x.shape, -np.inf), where=x > 0)
+    inv_t = 1.0 / tm_k - GAS_CONSTANT_J_MOL_K * ln_x / dh
+    return 1.0 / inv_t - ZERO_CELSIUS_K
+
+
+def imahara2006(saturated_mole_fraction, melting_point_C, enthalpy_fusion_kJ_mol):
+    r"""Cloud point as the highest ideal-solubility temperature of the saturated esters.
+
+    .. math::
+
+        CP = \max_i T_i,\qquad
+        \ln x_i = \frac{\Delta H_{fus,i}}{R}\left(\frac{1}{T_{m,i}} - \frac{1}{T_i}\right)
+
+    Parameters
+    ----------
+    saturated_mole_fraction : array_like
+        Mole fractions of the saturated esters in the whole liquid, shape
+        ``(n_samples, n_esters)``. For FAME-diesel blends pass the esters'
+        mole fractions in the blend (diluted by the diesel). [mol/mol]
+    melting_point_C : array_like
+        Melting points of the esters, shape ``(n_esters,)``. [degC]
+    enthalpy_fusion_kJ_mol : array_like
+        Enthalpies of fusion of the esters, shape ``(n_esters,)``. [kJ/mol]
+
+    Returns
+    -------
+    cloud_point_C : ndarray
+        Estimated cloud point, shape ``(n_samples,)``; NaN where every
+        mole fraction is zero (the maximum over no crystallising ester is
+        undefined: the model then has nothing to say). [degC]
+
+    Notes
+    -----
+    Form **MEMORY** (Imahara, Minami & Saka 2006); the enthalpies of fusion
+    are partly **MEMORY** and partly DERIVED (see :func:`saturated_ester_data`).
+    Non-ideal solid phases (Costa et al., VERIFIED [S23]) are ignored. No
+    published error recorded. Use :func:`saturated_ester_data` and
+    :func:`mole_fractions` to build the inputs from a FAME profile.
+
+    References
+    ----------
+    .. [1] Imahara H., Minami E., Saka S., "Thermodynamic study on cloud
+       point of biodiesel with its fatty acid composition", Fuel 85 (2006)
+       1666-1670 (from memory).
+
+    Examples
+    --------
+    Soybean-like ester, x(C16:0) = 0.113 and x(C18:0) = 0.039 (our
+    arithmetic; the stearate controls):
+
+    >>> cp = imahara2006([[0.113, 0.039]], [29.6, 38.7], [55.0, 64.0])
+    >>> round(float(cp[0]), 2)
+    2.47
+    """
+    x = np.atleast_2d(np.asarray(saturated_mole_fraction, dtype=float))
+    t_i = ideal_solubility_temperature_C(x, melting_point_C, enthalpy_fusion_kJ_mol)
+    any_present = (x > 0).any(axis=-1)
+    return np.where(any_present, t_i.max(axis=-1, initial=-ZERO_CELSIUS_K), np.nan)
+
+
+def saturated_mole_fractions(wt_pct):
+    r"""Inputs of :func:`imahara2006` for a neat FAME profile.
+
+    .. math::
+
+        x_i = \frac{A_i / M_i}{\sum_j A_j / M_j},\quad i \in \mathcal{S}
+
+    Parameters
+    ----------
+    wt_pct : array_like
+        Composition, shape ``(n_samples, n_species)``. [wt %]
+
+    Returns
+    -------
+    saturated_mole_fraction : ndarray
+        Mole fractions of the esters of :func:`saturated_ester_data` in the
+        whole ester liquid, shape ``(n_samples, n_esters)``. [mol/mol]
+    melting_point_C : ndarray
+        Their melting points. [degC]
+    enthalpy_fusion_kJ_mol : ndarray
+        Their enthalpies of fusion. [kJ/mol]
+
+    Notes
+    -----
+    Exact conversion (DERIVED). A blending layer multiplies the mole
+    fractions by the ester share of the blend's moles before calling
+    :func:`imahara2006`.
+
+    References
+    ----------
+    .. [1] Imahara H., Minami E., Saka S., Fuel 85 (2006) 1666-1670 (from
+       memory).
+
+    Examples
+    --------
+    >>> from estimator.tables import species_keys
+    >>> w = np.zeros(len(species_keys())); w[species_keys().index("C16:0")] = 100.0
+    >>> x, tm, dh = saturated_mole_fractions(w)
+    >>> float(imahara2006(x, tm, dh)[0])  # a pure ester clouds at its melting point
+    29.6
+    """
+    idx, tm, dh = saturated_ester_data()
+    return mole_fractions(np.atleast_2d(wt_pct))[:, idx], tm, dh

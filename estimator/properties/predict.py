@@ -1,0 +1,355 @@
+"""Estimation core: compositions -> a long table of estimates, and its wide view.
+
+:func:`estimate` evaluates the registered methods of every property for every
+sample and returns the long table ``sample, property, method, value, unit,
+error, in_domain, note``. :func:`wide` turns it into one row per sample with one
+column per property (the default method, or the only method present), its
+``<property>_error`` column and a ``flags`` column naming the estimates that lie
+outside their method's fitted domain.
+
+Errors: a method's published error where it is an error (AAD %, maximum %,
+RMSE); otherwise the standard deviation of the property's available methods
+for that sample; otherwise a stated fallback (see
+:attr:`estimator.properties.methods.Method.error_note`). Outside the fitted
+domain the error is the larger of the published error and the methods' spread.
+The ``note`` says which applies.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping, Sequence
+
+import numpy as np
+import pandas as pd
+
+from estimator.errors import ProfileError, UnknownNameError, UsageError
+from estimator.properties.descriptors import descriptors
+from estimator.properties.methods import DEFAULTS, PROPERTIES, Method, get_method, methods_for
+from estimator.tables import species_keys
+
+__all__ = ["CURVES", "DOMAIN_MARK", "LONG_COLUMNS", "curve_property", "estimate", "wide"]
+
+LONG_COLUMNS = ("sample", "property", "method", "value", "unit", "error", "in_domain", "note")
+#: Marker in ``note`` before the list of violated domain bounds (parsed by :func:`wide`).
+DOMAIN_MARK = "outside domain: "
+#: Temperature-curve properties: base property -> name pattern ({} is the temperature tag).
+CURVES = {
+    "density_15C_kg_m3": "density_{}C_kg_m3",
+    "kin_viscosity_40C_mm2_s": "kin_viscosity_{}C_mm2_s",
+}
+#: Tolerance on the row sums of ``wt_pct`` [wt %]; Profile renormalises before this.
+SUM_TOLERANCE_WT_PCT = 0.5
+
+
+def _temperature_tag(temperature_C: float) -> str:
+    t = float(temperature_C)
+    text = f"{abs(t):g}".replace(".", "p")
+    return ("m" if t < 0 else "") + text
+
+
+def curve_property(base: str, temperature_C: float) -> str:
+    """Name of a temperature-curve property, e.g. ``density_m10C_kg_m3``.
+
+    >>> curve_property("density_15C_kg_m3", -10)
+    'density_m10C_kg_m3'
+    >>> curve_property("kin_viscosity_40C_mm2_s", 12.5)
+    'kin_viscosity_12p5C_mm2_s'
+    """
+    return CURVES[base].format(_temperature_tag(temperature_C))
+
+
+def _validate(wt_pct, samples) -> tuple[np.ndarray, np.ndarray]:
+    keys = species_keys()
+    if isinstance(wt_pct, pd.DataFrame):
+        missing = [k for k in keys if k not in wt_pct.columns]
+        extra = [c for c in wt_pct.columns if c not in keys]
+        if extra:
+            raise ProfileError(f"unknown species columns: {', '.join(map(str, extra))}")
+        wt_pct = wt_pct.reindex(columns=keys, fill_value=0.0) if missing else wt_pct[list(keys)]
+    w = np.asarray(wt_pct, dtype=float)
+    if w.ndim != 2 or w.shape[1] != len(keys):
+        raise ProfileError(f"wt_pct must have shape (n_samples, {len(keys)}), got {w.shape}")
+    ids = np.empty(len(samples), dtype=object)
+    ids[:] = list(samples)
+    if len(ids) != w.shape[0]:
+        raise ProfileError(f"{len(ids)} sample ids for {w.shape[0]} compositions")
+    if len(pd.unique(ids)) != len(ids):
+        raise ProfileError("duplicate sample ids")
+    bad = ~np.isfinite(w).all(axis=1) | (w < 0).any(axis=1)
+    if bad.any():
+        raise ProfileError(f"sample {ids[np.argmax(bad)]}: negative or non-finite mass %")
+    sums = w.sum(axis=1)
+    off = np.abs(sums - 100.0) > SUM_TOLERANCE_WT_PCT
+    if off.any():
+        i = int(np.argmax(off))
+        raise ProfileError(
+            f"sample {ids[i]}: mass % sum to {sums[i]:.3f}, not 100 +/- {SUM_TOLERANCE_WT_PCT}"
+        )
+    return w, ids
+
+
+def _selection(methods) -> dict[str, list[str]]:
+    if isinstance(methods, str):
+        if methods == "default":
+            return {p: [DEFAULTS[p]] for p in PROPERTIES}
+        if methods == "all":
+            return {p: list(methods_for(p)) for p in PROPERTIES}
+        raise UsageError(f"methods must be 'default', 'all' or a mapping, got {methods!r}")
+    chosen = {p: [DEFAULTS[p]] for p in PROPERTIES}
+    for prop, name in dict(methods).items():
+        if prop not in PROPERTIES:
+            raise UnknownNameError(
+                f"unknown property {prop!r}; valid properties: {', '.join(PROPERTIES)}"
+            )
+        get_method(prop, name)  # raises with the valid names
+        chosen[prop] = [name]
+    return chosen
+
+
+def _spread(stack: np.ndarray) -> np.ndarray:
+    """Population std over methods (axis 1) of the finite values; NaN below two."""
+    ok = np.isfinite(stack)
+    count = ok.sum(axis=1)
+    safe = np.maximum(count, 1)
+    mean = np.where(ok, stack, 0.0).sum(axis=1) / safe
+    var = np.where(ok, (stack - mean[:, None]) ** 2, 0.0).sum(axis=1) / safe
+    return np.where(count >= 2, np.sqrt(var), np.nan)
+
+
+def _error(m: Method, values, inside, spread, n_methods, spreads):
+    published = m.absolute_error(values)
+    if published is not None:
+        text = f"error: published {m.error_kind} {m.error:g}"
+        if (~inside).any():
+            text += " (beyond the fitted domain: the larger of it and the methods' spread)"
+            published = np.where(inside, published, np.fmax(published, spread))
+        return published, text
+    if n_methods >= 2:
+        kind = "" if m.error_kind == "none" else f" (published {m.error_kind} {m.error:g})"
+        return spread, f"error: std of the {n_methods} methods, no usable published error{kind}"
+    if m.error_fallback is not None:
+        return np.asarray(m.error_fallback(values, spreads), dtype=float), f"error: {m.error_note}"
+    return np.full(values.shape, np.nan), "error: none published and no second method"
+
+
+class _Notes:
+    """Builds a categorical ``note`` column block by block."""
+
+    def __init__(self) -> None:
+        self.index: dict[str, int] = {}
+        self.codes: list[np.ndarray] = []
+
+    def _code(self, text: str) -> int:
+        return self.index.setdefault(text, len(self.index))
+
+    def add(self, base: str, violations: list[tuple[str, np.ndarray]], n: int) -> None:
+        active = [(r, m) for r, m in violations if m.any()]
+        if not active:
+            self.codes.append(np.full(n, self._code(base), dtype=np.int64))
+            return
+        bits = np.zeros(n, dtype=np.int64)
+        for j, (_, mask) in enumerate(active):
+            bits |= mask.astype(np.int64) << j
+        uniq, inverse = np.unique(bits, return_inverse=True)
+        texts = []
+        for b in uniq:
+            reasons = [r for j, (r, _) in enumerate(active) if (int(b) >> j) & 1]
+            texts.append(f"{base}; {DOMAIN_MARK}{', '.join(reasons)}" if reasons else base)
+        lookup = np.array([self._code(t) for t in texts], dtype=np.int64)
+        self.codes.append(lookup[inverse.ravel()])
+
+    def categorical(self) -> pd.Categorical:
+        return pd.Categorical.from_codes(np.concatenate(self.codes), categories=list(self.index))
+
+
+def estimate(
+    wt_pct,
+    samples: Sequence,
+    *,
+    methods: str | Mapping[str, str] = "default",
+    temperatures_C: Sequence[float] = (),
+) -> pd.DataFrame:
+    """Estimate every property of every sample; one row per sample, property and method.
+
+    Parameters
+    ----------
+    wt_pct : ndarray or DataFrame
+        FAME mass %, shape ``(n_samples, n_species)`` in species-table order
+        (a DataFrame is reordered by its species columns), rows summing to
+        100 within 0.5. [wt%]
+    samples : sequence
+        One unique id per row.
+    methods : {'default', 'all'} or mapping, optional
+        ``'default'``: the default method of every property; ``'all'``: every
+        registered method; a mapping ``property -> method name`` overrides the
+        defaults for the listed properties.
+    temperatures_C : sequence of float, optional
+        Extra temperatures for density and viscosity curves, reported as
+        properties ``density_<T>C_kg_m3`` and ``kin_viscosity_<T>C_mm2_s``
+        (``m10`` for -10, ``12p5`` for 12.5). [degC]
+
+    Returns
+    -------
+    DataFrame
+        Columns exactly :data:`LONG_COLUMNS`; ``property``, ``method``,
+        ``unit`` and ``note`` are categorical.
+
+    Examples
+    --------
+    >>> w = np.zeros((1, len(species_keys()))); w[0, species_keys().index("C18:1")] = 100.0
+    >>> long = estimate(w, ["oleate"], temperatures_C=[-10])
+    >>> long.loc[long.property == "density_m10C_kg_m3", ["method", "value"]].round(1).values
+    array([['ramirezverduzco2022', 893.3]], dtype=object)
+    """
+    w, ids = _validate(wt_pct, samples)
+    n = w.shape[0]
+    desc = descriptors(w)
+    chosen = _selection(methods)
+    temps = [float(t) for t in temperatures_C]
+    if not all(np.isfinite(temps)):
+        raise UsageError("temperatures_C must be finite numbers")
+    tasks = [(p, p, None) for p in PROPERTIES]
+    for t in temps:
+        for base in CURVES:
+            name = curve_property(base, t)
+            if name not in PROPERTIES and name not in {x[0] for x in tasks}:
+                tasks.append((name, base, t))
+
+    evaluated: dict[str, dict[str, np.ndarray]] = {}
+    spreads: dict[str, np.ndarray] = {}
+    for name, base, t in tasks:
+        vals = {m.name: m.evaluate(w, desc, t) for m in methods_for(base).values()}
+        evaluated[name] = vals
+        spreads[name] = _spread(np.column_stack(list(vals.values())))
+
+    notes = _Notes()
+    cols: dict[str, list] = {"value": [], "error": [], "in_domain": []}
+    block_props, block_methods, block_units = [], [], []
+    for name, base, _t in tasks:
+        all_methods = methods_for(base)
+        for mname in chosen[base]:
+            m = all_methods[mname]
+            values = evaluated[name][mname]
+            violations = m.domain.violations(w, desc)
+            inside = np.ones(n, dtype=bool)
+            for _, mask in violations:
+                inside &= ~mask
+            err, err_text = _error(m, values, inside, spreads[name], len(all_methods), spreads)
+            cols["value"].append(values)
+            cols["error"].append(err)
+            cols["in_domain"].append(inside)
+            notes.add(f"{m.note}; {err_text}", violations, n)
+            block_props.append(name)
+            block_methods.append(mname)
+            block_units.append(m.unit)
+
+    def block_categorical(labels: list[str]) -> pd.Categorical:
+        cats = list(dict.fromkeys(labels))
+        codes = np.repeat(np.array([cats.index(x) for x in labels], dtype=np.int64), n)
+        return pd.Categorical.from_codes(codes, categories=cats)
+
+    return pd.DataFrame({
+        "sample": np.tile(ids, len(block_props)),
+        "property": block_categorical(block_props),
+        "method": block_categorical(block_methods),
+        "value": np.concatenate(cols["value"]),
+        "unit": block_categorical(block_units),
+        "error": np.concatenate(cols["error"]),
+        "in_domain": np.concatenate(cols["in_domain"]),
+        "note": notes.categorical(),
+    }, columns=list(LONG_COLUMNS))
+
+
+def _base_property(prop: str) -> str:
+    if prop in PROPERTIES:
+        return prop
+    for base, pattern in CURVES.items():
+        head, tail = pattern.split("{}")
+        if prop.startswith(head) and prop.endswith(tail):
+            return base
+    return prop
+
+
+def wide(long: pd.DataFrame) -> pd.DataFrame:
+    """One row per sample: a value and an error column per property, and ``flags``.
+
+    Per property the default method is used when the long table holds it,
+    otherwise the first method present. ``flags`` lists the out-of-domain
+    estimates as ``<property>: outside <method> domain (<reasons>)`` joined by
+    ``"; "``, or is empty.
+
+    Parameters
+    ----------
+    long : DataFrame
+        A table from :func:`estimate`.
+
+    Returns
+    -------
+    DataFrame
+        Columns ``sample``, then ``<property>`` and ``<property>_error`` per
+        property in the order of ``long``, then ``flags``.
+
+    Examples
+    --------
+    >>> w = np.zeros((1, len(species_keys()))); w[0, species_keys().index("C18:1")] = 100.0
+    >>> table = wide(estimate(w, ["oleate"]))
+    >>> list(table.columns[:3]), table.loc[0, "flags"].split("; ")[0]
+    (['sample', 'cetane_number', 'cetane_number_error'], 'pour_point_C: outside sarin2009 domain \
+(C16:0 < 9 wt %)')
+    """
+    missing = [c for c in LONG_COLUMNS if c not in long.columns]
+    if missing:
+        raise UsageError(f"not a long estimate table; missing columns: {', '.join(missing)}")
+    prop_codes, props = _codes(long["property"])
+    method_codes, method_names = _codes(long["method"])
+    # per property: the default method if present, else the first one present
+    pair = prop_codes * len(method_names) + method_codes
+    present = np.unique(pair)
+    chosen = np.full(len(props), -1)
+    for code in present:
+        p, m = divmod(int(code), len(method_names))
+        default = DEFAULTS.get(_base_property(props[p]))
+        if chosen[p] < 0 or method_names[m] == default:
+            chosen[p] = m
+    used = np.flatnonzero(chosen >= 0)
+    sel = method_codes == chosen[prop_codes]
+    sample_codes, sample_order = pd.factorize(long["sample"])
+    s_sel, p_sel = sample_codes[sel], prop_codes[sel]
+    n = len(sample_order)
+    value = np.full((n, len(props)), np.nan)
+    error = np.full((n, len(props)), np.nan)
+    value[s_sel, p_sel] = long["value"].to_numpy(dtype=float)[sel]
+    error[s_sel, p_sel] = long["error"].to_numpy(dtype=float)[sel]
+    out = {"sample": np.asarray(sample_order, dtype=object)}
+    for j in used:
+        out[props[j]] = value[:, j]
+        out[f"{props[j]}_error"] = error[:, j]
+
+    flags = np.full(n, "", dtype=object)
+    bad = sel & ~long["in_domain"].to_numpy(dtype=bool)
+    if bad.any():
+        note_codes, notes = _codes(long["note"])
+        p_all = prop_codes[bad]
+        combo = p_all * len(notes) + note_codes[bad]
+        uniq, inverse = np.unique(combo, return_inverse=True)
+        texts = []
+        for code in uniq:
+            p, k = divmod(int(code), len(notes))
+            reasons = str(notes[k]).split(DOMAIN_MARK, 1)[-1]
+            texts.append(f"{props[p]}: outside {method_names[chosen[p]]} domain ({reasons})")
+        text_of_row = np.asarray(texts, dtype=object)[inverse.ravel()]
+        per_prop = np.full((n, len(props)), "", dtype=object)
+        per_prop[sample_codes[bad], p_all] = text_of_row
+        for j in np.unique(p_all):
+            col = per_prop[:, j]
+            has = col != ""
+            sep = np.where((flags != "") & has, "; ", "")
+            flags = flags + sep + col
+    out["flags"] = flags
+    return pd.DataFrame(out)
+
+
+def _codes(column: pd.Series) -> tuple[np.ndarray, list]:
+    """Integer codes and their labels, in order of first appearance."""
+    codes, uniques = pd.factorize(column, sort=False)
+    return codes, [str(u) for u in uniques]
