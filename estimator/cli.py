@@ -8,6 +8,7 @@ scikit-learn are imported only inside the commands that draw or fit.
 
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
 
@@ -32,6 +33,17 @@ class _Group(click.Group):
             where = f"{name}: " if name else ""
             click.echo(f"fame-estimator: error: {where}{exc.strerror or exc}", err=True)
             ctx.exit(1)
+        except (click.exceptions.Exit, click.ClickException, click.Abort):
+            raise
+        except Exception as exc:
+            if os.environ.get("FAME_ESTIMATOR_DEBUG"):
+                raise
+            click.echo(
+                f"fame-estimator: internal error: {type(exc).__name__}: {exc} (please report it; "
+                "set FAME_ESTIMATOR_DEBUG=1 to see the traceback)",
+                err=True,
+            )
+            ctx.exit(1)
 
 
 @click.group(cls=_Group, context_settings=CONTEXT)
@@ -51,26 +63,132 @@ def main() -> None:
 
 
 # ---------------------------------------------------------------- commands
+def _temperatures(ctx, param, value: str | None) -> tuple[float, ...]:
+    if not value:
+        return ()
+    try:
+        temps = tuple(float(t) for t in value.replace(";", ",").split(",") if t.strip())
+    except ValueError:
+        raise click.BadParameter(f"{value!r} is not a comma-separated list of numbers") from None
+    if any(t < -60 or t > 150 for t in temps):
+        raise click.BadParameter("temperatures must lie between -60 and 150 degC")
+    return temps
+
+
 @cli.command(context_settings=CONTEXT)
 @click.argument("inputs", nargs=-1, type=click.Path(dir_okay=False))
 @click.option("--oil", "oils", multiple=True, metavar="NAME",
               help="A built-in typical profile (repeatable); see 'fame-estimator oils'.")
 @input_options
+@click.option("--methods", "methods", type=click.Choice(["default", "all"]), default="default",
+              show_default=True,
+              help="'all' gives every published method per property as a long table.")
+@click.option("--temperatures", callback=_temperatures, metavar="T1,T2,...",
+              help="Also estimate density and viscosity at these temperatures [degC].")
+@click.option("--model", "models", multiple=True, type=click.Path(dir_okay=False),
+              metavar="MODEL.json", help="Use a model fitted with 'fame-estimator fit' "
+              "(repeatable).")
 @click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json).")
-def predict(inputs, oils, basis, sum_tolerance, output) -> None:
-    """Composition descriptors and fuel-property estimates for each sample.
+def predict(inputs, oils, basis, sum_tolerance, methods, temperatures, models, output) -> None:
+    """Fuel-property estimates and composition descriptors for each sample.
+
+    Each estimate comes from a published correlation (see 'fame-estimator methods')
+    with its stated error; estimates outside the range a method was fitted on are
+    listed under 'flags'.
 
     \b
     Examples:
       fame-estimator predict --oil rapeseed --oil soybean
       fame-estimator predict lots.csv -o estimates.xlsx
+      fame-estimator predict --oil palm --methods all --temperatures 0,20,40,60
       fame-estimator predict gc_report.csv --basis oil --sum-tolerance 3
     """
-    from estimator.workflows import predict_table
+    from estimator.workflows import predict as run_predict
 
     profile = load_inputs(inputs, oils, basis, sum_tolerance)
-    table = predict_table(profile)
-    emit(table, output)
+    result = run_predict(profile, methods=methods, temperatures_C=temperatures, models=models)
+    if methods == "all":
+        if output:
+            emit(result.long, output)
+        else:
+            emit(_long_for_terminal(result.long), None, footer=_methods_footer())
+        return
+    if output:
+        emit(result.wide, output)
+    else:
+        emit(_wide_for_terminal(result.wide), None, footer=_methods_footer())
+
+
+def _wide_for_terminal(table):
+    """Merge each ``<property>`` with its ``<property>_error`` into one 'value ± error' cell."""
+    from estimator.report.tables import plus_minus
+
+    out = table.copy()
+    for col in [c for c in table.columns if f"{c}_error" in table.columns]:
+        out[col] = plus_minus(table[col], table[f"{col}_error"])
+        out = out.drop(columns=f"{col}_error")
+    return out
+
+
+def _long_for_terminal(long):
+    from estimator.report.tables import plus_minus
+
+    out = long[["sample", "property", "method"]].copy()
+    out["estimate"] = plus_minus(long["value"], long["error"])
+    out["unit"] = long["unit"].astype(str)
+    out["in_domain"] = long["in_domain"].map({True: "yes", False: "NO"})
+    return out
+
+
+def _methods_footer() -> str:
+    return ("Defaults and citations: 'fame-estimator methods'. Estimates are not "
+            "certification; see the README cautions.")
+
+
+@cli.command(context_settings=CONTEXT)
+@click.option("--property", "prop", metavar="NAME", help="Only the methods for one property.")
+@click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json).")
+def methods(prop, output) -> None:
+    """List the published methods per property: default, stated error, domain, citation.
+
+    \b
+    Examples:
+      fame-estimator methods
+      fame-estimator methods --property cfpp_C
+    """
+    from estimator.errors import UnknownNameError
+    from estimator.properties.methods import DEFAULT_REASONS, PROPERTIES, list_methods
+
+    table = list_methods()
+    if prop:
+        if prop not in PROPERTIES:
+            raise UnknownNameError(
+                f"unknown property {prop!r}; known: {', '.join(PROPERTIES)}"
+            )
+        table = table[table["property"] == prop]
+    if output:
+        emit(table.reset_index(drop=True), output)
+        return
+    for name, group in table.groupby("property", sort=False):
+        unit = group["unit"].iloc[0]
+        click.echo(f"\n{name} [{unit}]")
+        for _, row in group.iterrows():
+            mark = "*" if row["default"] else " "
+            err = _error_text(row["error"], row["error_kind"])
+            click.echo(f"  {mark} {row['method']:<22} {row['provenance']:<8} {err}")
+            click.echo(f"      {row['citation']}")
+            click.echo(f"      fitted domain: {row['domain'] or 'not stated'}")
+        reason = DEFAULT_REASONS.get(name)
+        if reason:
+            click.echo(f"    default (*) because: {reason}")
+
+
+def _error_text(error: float, kind: str) -> str:
+    import math
+
+    if kind == "none" or error is None or (isinstance(error, float) and math.isnan(error)):
+        return "no published error"
+    return f"stated error: {kind} {error:g}"
 
 
 @cli.command(context_settings=CONTEXT)

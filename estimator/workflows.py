@@ -6,12 +6,25 @@ what they return.
 
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+
 import pandas as pd
 
 from estimator.profiles.profile import Profile
 from estimator.properties.descriptors import descriptors
+from estimator.properties.predict import estimate, wide
 
-__all__ = ["descriptor_table", "predict_table"]
+__all__ = ["Prediction", "descriptor_table", "predict", "profile_notes"]
+
+
+@dataclass(frozen=True)
+class Prediction:
+    """The result of :func:`predict`: wide table, long table, and the profile behind them."""
+
+    wide: pd.DataFrame
+    long: pd.DataFrame
+    profile: Profile
 
 
 def descriptor_table(profile: Profile) -> pd.DataFrame:
@@ -22,18 +35,58 @@ def descriptor_table(profile: Profile) -> pd.DataFrame:
     return table
 
 
-def predict_table(profile: Profile) -> pd.DataFrame:
-    """The wide ``predict`` table: sample, descriptors, and the notes on each profile."""
+def profile_notes(profile: Profile) -> list[str]:
+    """Per-sample notes: what was done to the numbers, and Codex range warnings."""
     from estimator.profiles.ranges import codex_warnings
 
-    table = descriptor_table(profile)
-    warnings = codex_warnings(profile)
     notes = profile.notes.copy()
+    warnings = codex_warnings(profile)
     warned = (warnings != "").to_numpy()
     if warned.any():
         notes[warned] = [
             f"{n}; {w}" if n else w
             for n, w in zip(notes[warned].tolist(), warnings[warned].tolist(), strict=True)
         ]
-    table["notes"] = notes.to_numpy()
-    return table
+    return notes.tolist()
+
+
+def predict(
+    profile: Profile,
+    *,
+    methods: str | Mapping[str, str] = "default",
+    temperatures_C: Sequence[float] = (),
+    models: Sequence[str] = (),
+) -> Prediction:
+    """Estimate every fuel property of every sample, plus the composition descriptors.
+
+    Parameters
+    ----------
+    profile : Profile
+    methods : {'default', 'all'} or mapping of property to method name
+    temperatures_C : sequence of float
+        Extra temperatures for the density and viscosity curves. [degC]
+    models : sequence of str
+        JSON model files from ``fame-estimator fit``; each fitted property replaces the
+        default method in the wide table and appears as its own method in the long one.
+
+    Returns
+    -------
+    Prediction
+        ``wide``: sample, each property and its ``_error``, the descriptors, ``flags``
+        and ``notes``; ``long``: sample, property, method, value, unit, error,
+        in_domain, note.
+    """
+    long = estimate(profile.wt_pct, profile.samples, methods=methods,
+                    temperatures_C=temperatures_C)
+    if models:
+        from estimator.refit.apply import apply_models
+
+        long = apply_models(profile, list(models), long)
+    table = wide(long)
+    flags = table.pop("flags")
+    desc = descriptor_table(profile).drop(columns="sample")
+    desc = desc.drop(columns=[c for c in desc.columns if c in table.columns])
+    table = pd.concat([table.reset_index(drop=True), desc.reset_index(drop=True)], axis=1)
+    table["flags"] = flags.to_numpy()
+    table["notes"] = profile_notes(profile)
+    return Prediction(table, long, profile)

@@ -21,7 +21,7 @@ import pandas as pd
 from estimator.profiles.io import read_profile
 from estimator.properties.descriptors import descriptors
 from estimator.tables import species_keys
-from estimator.workflows import predict_table
+from estimator.workflows import predict
 
 MAIN = ["C16:0", "C18:0", "C18:1", "C18:2", "C18:3", "C20:0", "C20:1", "C22:0", "C14:0", "C12:0"]
 
@@ -65,7 +65,7 @@ def main() -> None:
         result = {}
 
         def run() -> None:
-            result["table"] = predict_table(read_profile(path))
+            result["table"] = predict(read_profile(path)).wide
 
         t_run = best_of(run)
         out = Path(tmp) / "out.csv"

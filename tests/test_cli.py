@@ -26,6 +26,7 @@ def test_predict_prints_a_readable_table_for_library_oils():
     assert result.exit_code == 0, result.output
     assert "iodine_value_gI2_100g" in result.output
     assert "rapeseed" in result.output and "soybean" in result.output
+    assert " ± " in result.output  # every default estimate shows its error
 
 
 @pytest.mark.parametrize("suffix", [".csv", ".xlsx", ".json"])
@@ -39,7 +40,9 @@ def test_predict_writes_the_table_by_extension(tmp_path, suffix):
         table = pd.read_excel(out)
     else:
         table = pd.DataFrame(json.loads(out.read_text()))
-    assert list(table.columns[:2]) == ["sample", "mean_molar_mass_g_mol"]
+    assert list(table.columns[:3]) == ["sample", "cetane_number", "cetane_number_error"]
+    assert {"iodine_value_gI2_100g", "cfpp_C", "mean_molar_mass_g_mol", "flags",
+            "notes"} <= set(table.columns)
     assert len(table) == 7
 
 
@@ -106,3 +109,35 @@ def test_cli_start_does_not_import_matplotlib_or_sklearn():
             "print(any(m.split('.')[0] in ('matplotlib', 'sklearn') for m in sys.modules))")
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert done.stdout.strip() == "False"
+
+
+def test_predict_methods_all_writes_the_long_table(tmp_path):
+    out = tmp_path / "long.csv"
+    result = run("predict", "--oil", "rapeseed", "--oil", "palm", "--methods", "all",
+                 "--temperatures", "0,20,60", "-o", str(out))
+    assert result.exit_code == 0, result.output
+    long = pd.read_csv(out)
+    assert list(long.columns) == ["sample", "property", "method", "value", "unit", "error",
+                                  "in_domain", "note"]
+    assert {"density_0C_kg_m3", "kin_viscosity_60C_mm2_s"} <= set(long["property"])
+    assert long.groupby("property")["method"].nunique()["cetane_number"] >= 3
+
+
+def test_bad_temperature_list_is_a_usage_error():
+    result = run("predict", "--oil", "palm", "--temperatures", "0,warm")
+    assert result.exit_code == 2
+    assert "'0,warm' is not a comma-separated list of numbers" in result.output
+
+
+def test_methods_lists_citations_and_marks_the_default():
+    result = run("methods", "--property", "cfpp_C")
+    assert result.exit_code == 0
+    assert "* ramos2009" in result.output
+    assert "Bioresour" in result.output or "Bioresource" in result.output
+
+
+def test_methods_unknown_property_lists_known_ones():
+    result = run("methods", "--property", "smoke_point")
+    assert result.exit_code == 2
+    assert result.output.startswith("fame-estimator: error: unknown property 'smoke_point'; "
+                                    "known: cetane_number, ")

@@ -13,7 +13,7 @@ import pandas as pd
 
 from estimator.errors import UsageError
 
-__all__ = ["TABLE_SUFFIXES", "atomic_write", "format_table", "write_table"]
+__all__ = ["TABLE_SUFFIXES", "atomic_write", "format_table", "plus_minus", "write_table"]
 
 TABLE_SUFFIXES = (".csv", ".xlsx", ".json")
 
@@ -119,3 +119,17 @@ def _looks_numeric(text: str) -> bool:
     except ValueError:
         return False
     return True
+
+
+def plus_minus(values: pd.Series, errors: pd.Series, digits: int = 3) -> pd.Series:
+    """Cells 'value ± error' with the value rounded to the error's first significant digit."""
+    out = []
+    for v, e in zip(values.to_numpy(dtype=float), errors.to_numpy(dtype=float), strict=True):
+        if math.isnan(v):
+            out.append("-")
+        elif math.isnan(e) or e <= 0:
+            out.append(_fmt(v, digits + 1))
+        else:
+            decimals = max(0, 1 - int(math.floor(math.log10(e))))
+            out.append(f"{v:.{decimals}f} ± {e:.{decimals}f}")
+    return pd.Series(out, index=values.index, dtype=object)
