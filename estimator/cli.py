@@ -210,13 +210,16 @@ def oils(ranges, output) -> None:
         return
     table = load_table("feedstocks").copy()
     species = [c for c in table.columns if ":" in c]
-    shown = table[["oil", *species, "other"]].fillna(0.0)
+    shown = table[["oil", *species, "other"]].copy()
+    for col in [*species, "other"]:
+        shown[col] = shown[col].map(lambda v: f"{v:.1f}" if v == v and v else "")
     if output:
         emit(table, output)
         return
     click.echo(
         "Typical fatty-acid profiles (wt % of total fatty acids; 'other' = acids the source\n"
-        "does not list). Sources: 'fame-estimator oils -o oils.csv' writes them per row.\n"
+        "does not list; blank = not listed). 'fame-estimator oils -o oils.csv' writes them\n"
+        "with the source of every row. Use a name with 'predict --oil NAME'.\n"
     )
     click.echo(_format_plain(shown))
 

@@ -46,7 +46,8 @@ def best_of(fn, repeat: int = 3) -> float:
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--n", type=int, default=1_000_000, help="profiles for the descriptor layer")
+    parser.add_argument("--n", type=int, default=1_000_000,
+                        help="profiles for the descriptor layer")
     parser.add_argument("--csv-n", type=int, default=200_000, help="profiles in the CSV run")
     args = parser.parse_args()
 
