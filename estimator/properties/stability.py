@@ -71,7 +71,8 @@ def park2008(linoleic_linolenic_wt_pct):
     array([  nan, 4.9491...])
     """
     x = np.asarray(linoleic_linolenic_wt_pct, dtype=float)
-    ratio = np.divide(PARK2008_A, x, out=np.full(x.shape, np.nan), where=x != 0)
+    # X below 1e-9 wt % is zero for any GC; the quotient would only overflow there
+    ratio = np.divide(PARK2008_A, x, out=np.full(x.shape, np.nan), where=x > 1e-9)
     return ratio + PARK2008_B
 
 

@@ -108,3 +108,10 @@ def test_bape_indicator_rises_with_any_polyene(xs, polyene, frac):
     w1[0, KEYS.index(polyene)] += moved
     knothe = get_method("oxidizability_indicator_wt_pct", "knothe2002")
     assert knothe.evaluate(w1, descriptors(w1))[0] >= knothe.evaluate(w0, descriptors(w0))[0]
+
+
+def test_park2008_treats_a_vanishing_linoleate_content_as_zero():
+    # found by hypothesis: X = 5.6e-307 wt % overflowed the quotient; X = 0 is the pole
+    from estimator.properties.stability import park2008
+
+    assert np.isnan(park2008([5.6e-307, 0.0])).all()
