@@ -1,0 +1,231 @@
+"""The ``check`` and ``compare`` commands: specification verdicts and the buyer's comparison.
+
+Plain click commands; ``estimator.cli`` registers them in the ``fame-estimator``
+group. They parse options, call :mod:`estimator.comparison`, format and write.
+Run on their own (as the tests do) they report an
+:class:`~estimator.errors.EstimatorError` as one stderr line, as the group does.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from estimator.cliutil import CONTEXT, emit, input_options, load_inputs
+from estimator.errors import EstimatorError
+
+__all__ = ["STRICT_EXIT_CODE", "check", "compare"]
+
+#: Exit status of ``check --strict`` when any verdict is ``fails``.
+STRICT_EXIT_CODE = 3
+DEFAULT_SPECS = ("en14214", "astm-d6751")
+
+
+class _Command(click.Command):
+    """A command that reports our errors as one line instead of a traceback."""
+
+    def invoke(self, ctx: click.Context):  # noqa: D102
+        try:
+            return super().invoke(ctx)
+        except EstimatorError as exc:
+            click.echo(f"fame-estimator: error: {exc}", err=True)
+            ctx.exit(exc.exit_code)
+        except OSError as exc:
+            name = Path(exc.filename).name if getattr(exc, "filename", None) else ""
+            where = f"{name}: " if name else ""
+            click.echo(f"fame-estimator: error: {where}{exc.strerror or exc}", err=True)
+            ctx.exit(1)
+
+
+def _spec_options(func):
+    func = click.option(
+        "--climate-class", metavar="CLASS",
+        help="CFPP grade A-F or arctic class 0-4 (EN 14214 / EN 590); without it CFPP is "
+             "estimated but not judged.",
+    )(func)
+    func = click.option(
+        "--spec", "spec_names", multiple=True, metavar="NAME",
+        help="Specification to check against (repeatable): en14214, astm-d6751, en590, "
+             "astm-d7467. Default: en14214 and astm-d6751.",
+    )(func)
+    return func
+
+
+def _inputs(func):
+    func = input_options(func)
+    func = click.option(
+        "--oil", "oils", multiple=True, metavar="NAME",
+        help="A built-in typical profile (repeatable); see 'fame-estimator oils'.",
+    )(func)
+    return click.argument("inputs", nargs=-1, type=click.Path(dir_okay=False))(func)
+
+
+def _footer(climate_class: str | None, spec_names) -> str:
+    from estimator.cautions import CAUTION_SHORT
+
+    lines = []
+    if climate_class is None and any(s in ("en14214", "en590") for s in spec_names):
+        lines.append("CFPP not judged: give --climate-class (A-F, or arctic 0-4) to check it.")
+    lines.append(CAUTION_SHORT)
+    return "\n".join(lines)
+
+
+def _with_caution(frame, output: str | None):
+    """CSV and JSON files carry the caution as a column; XLSX gets a cautions sheet."""
+    import pandas as pd
+
+    from estimator.cautions import CAUTION, CAUTION_SHORT
+
+    suffix = Path(output).suffix.lower() if output else ""
+    if suffix in (".csv", ".json"):
+        return frame.assign(caution=CAUTION_SHORT), None
+    if suffix == ".xlsx":
+        return frame, {"cautions": pd.DataFrame({"caution": [CAUTION]})}
+    return frame, None
+
+
+@click.command(cls=_Command, context_settings=CONTEXT)
+@_inputs
+@_spec_options
+@click.option("--strict", is_flag=True,
+              help=f"Exit with status {STRICT_EXIT_CODE} when any verdict is 'fails'.")
+@click.option("-o", "--output", metavar="FILE",
+              help="Write the verdict table (.csv, .xlsx or .json).")
+def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict, output) -> None:
+    """Check each sample's estimated fuel against specification limits.
+
+    Every estimate is compared with every limit: 'meets', 'fails', or 'too close to
+    call' when the limit lies inside the estimate ± its stated error. Limits the
+    profile fixes exactly (linolenic ester, esters with four or more double bonds)
+    have no error band. A failed verdict is not an error: the exit status is 0
+    unless --strict is given.
+
+    \b
+    Examples:
+      fame-estimator check --oil rapeseed --oil soybean
+      fame-estimator check lots.csv --spec en14214 --climate-class C
+      fame-estimator check lots.csv --spec astm-d6751 --strict -o verdicts.xlsx
+    """
+    import pandas as pd
+
+    from estimator.comparison import SPEC_LABELS, check_profile
+    from estimator.report.html import plus_minus
+    from estimator.specs import PROPERTY_LABELS, limits, normalise_climate_class, summarise
+
+    names = spec_names or DEFAULT_SPECS
+    climate_class = normalise_climate_class(climate_class)
+    limits(names, climate_class)  # bad names fail before the inputs are read
+    profile = load_inputs(inputs, oils, basis, sum_tolerance)
+    table = check_profile(profile, names, climate_class)
+    failed = int((table["verdict"] == "fails").sum())
+    footer = _footer(climate_class, names)
+    if output:
+        frame, sheets = _with_caution(table, output)
+        emit(frame, output, footer=footer, sheets=sheets)
+    else:
+        sign = {"min": "≥", "max": "≤"}
+        shown = pd.DataFrame({
+            "sample": table["sample"],
+            "spec": table["spec"].map(lambda s: SPEC_LABELS.get(s, s)),
+            "property": table["property"].map(lambda p: PROPERTY_LABELS.get(p, p)),
+            "estimate": [plus_minus(v, e) for v, e in zip(table["estimate"], table["error"])],
+            "limit": [f"{sign[b]} {v:g}" for b, v in zip(table["bound"], table["limit"])],
+            "unit": table["unit"].replace({"1": "-"}),
+            "verdict": table["verdict"],
+            "domain": table["in_domain"].map({True: "", False: "outside fitted domain"}),
+        })
+        from estimator.report.tables import format_table
+
+        click.echo(format_table(shown, transpose=False))
+        summary = summarise(table)
+        click.echo("\nsummary:")
+        for sample, row in summary.iterrows():
+            parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[s]}" for s in summary.columns)
+            click.echo(f"  {sample}: {parts}")
+        click.echo(f"\n{failed} of {len(table)} verdicts fail.\n{footer}")
+    if strict and failed:
+        click.echo(f"--strict: {failed} verdicts fail; exit status {STRICT_EXIT_CODE}",
+                   err=True)
+        click.get_current_context().exit(STRICT_EXIT_CODE)
+
+
+@click.command(cls=_Command, context_settings=CONTEXT)
+@_inputs
+@_spec_options
+@click.option("--pretreat", type=click.Choice(["none", "acid"]), default="none",
+              show_default=True,
+              help="none: base catalysis, free fatty acid lost to soap; acid: free fatty acid "
+                   "esterified to fuel first.")
+@click.option("--methanol-ratio", type=float, default=6.0, show_default=True, metavar="R",
+              help="Methanol : oil (triglyceride) molar ratio charged; at least 3.")
+@click.option("-o", "--output", "outdir", metavar="DIR", type=click.Path(file_okay=False),
+              help="Write comparison.csv, comparison.xlsx, plots/ (PNG and SVG) and "
+                   "report.html into DIR.")
+def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretreat,
+            methanol_ratio, outdir) -> None:
+    """Compare offered lots: spec verdicts, fuel yield and cost per tonne of fuel, ranked.
+
+    Reads each lot's profile and, when present, its price_per_t, ffa_wt_pct,
+    water_wt_pct, supplier, feedstock and available_t columns. Lots whose fuel meets
+    every specification checked rank first, then those too close to call, then
+    those that fail; within each group the cheapest fuel first. A lot without a
+    price keeps its verdicts; its cost is left empty.
+
+    \b
+    Examples:
+      fame-estimator compare lots.csv --basis fatty-acid --climate-class C
+      fame-estimator compare lots.csv --basis fatty-acid -o out/lots --pretreat acid
+      fame-estimator compare --oil rapeseed --oil palm --spec en14214 --spec astm-d6751
+    """
+    from estimator.comparison import SPEC_LABELS, compare_lots
+    from estimator.specs import limits, normalise_climate_class
+
+    names = spec_names or DEFAULT_SPECS
+    climate_class = normalise_climate_class(climate_class)
+    limits(names, climate_class)
+    profile = load_inputs(inputs, oils, basis, sum_tolerance)
+    result = compare_lots(profile, spec_names=names, climate_class=climate_class,
+                          pretreat=pretreat, methanol_ratio=methanol_ratio)
+    footer = _footer(climate_class, names)
+    if outdir:
+        from estimator.report.html import write_comparison
+
+        written = write_comparison(result, outdir)
+        for key in ("csv", "xlsx", "report"):
+            click.echo(f"wrote {written[key]}", err=True)
+        click.echo(f"wrote {len(written['plots'])} plot files into "
+                   f"{Path(outdir) / 'plots'}", err=True)
+        click.echo(footer, err=True)
+        return
+    import pandas as pd
+
+    from estimator.report.html import plus_minus
+    from estimator.report.tables import format_table
+
+    r = result.ranked
+    shown = pd.DataFrame({
+        "rank": r["rank"], "lot": r["sample"],
+        "overall": r["overall"],
+        "cetane": [plus_minus(v, e) for v, e in zip(r["cetane_number"], r["cetane_number_error"])],
+        "IV": [plus_minus(v, e) for v, e in zip(r["iodine_value_gI2_100g"],
+                                         r["iodine_value_gI2_100g_error"])],
+        "CFPP °C": [plus_minus(v, e) for v, e in zip(r["cfpp_C"], r["cfpp_C_error"])],
+        "OS 110 °C h": [plus_minus(v, e) for v, e in zip(r["oxidation_stability_110C_h"],
+                                                  r["oxidation_stability_110C_h_error"])],
+        "yield t/t": r["fuel_yield_t_per_t_oil"],
+        "cost per t fuel": r["cost_per_t_fuel"],
+    })
+    click.echo("Lots ranked: meeting every spec first, then by feedstock cost per tonne of "
+               "fuel\n")
+    click.echo(format_table(shown, transpose=False))
+    click.echo("\nverdicts:")
+    for _, row in r.iterrows():
+        parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[f'verdict_{s}']}" for s in result.specs)
+        click.echo(f"  {row['sample']}: {parts}")
+    notes = [(s, n) for s, n in zip(r["sample"], r["notes"]) if n]
+    if notes:
+        click.echo("\nnotes:")
+        for sample, text in notes:
+            click.echo(f"  {sample}: {text}")
+    click.echo("\n" + footer)

@@ -1,0 +1,370 @@
+"""Specification limits and the verdict of each estimate against them.
+
+The limits live in ``estimator/tables/specs.csv``: one row per limit (a minimum or
+a maximum) with its specification key (``en14214``, ``astm-d6751``, ``en590``,
+``astm-d7467``), edition, test method, the mark of the number in the shared
+research notes (VERIFIED or MEMORY) and the source. Climate-dependent limits
+(CFPP grades A-F and arctic classes 0-4, the arctic cloud point and the arctic
+density, viscosity and cetane limits of EN 590) carry a ``climate_class``; they
+apply only when that class is chosen, and then replace the general limit of the
+same property and bound.
+
+Verdicts
+--------
+For an estimate :math:`x` with stated error :math:`e` against a limit :math:`L`:
+
+* ``too close to call`` when the limit lies strictly inside the band,
+  :math:`|x - L| < e`;
+* otherwise ``meets`` when :math:`x \\ge L` (minimum) or :math:`x \\le L` (maximum),
+  else ``fails``.
+
+Properties the composition fixes exactly (linolenic acid methyl ester and the
+esters with four or more double bonds, which EN 14214 limits on the GC result)
+get no band: the profile *is* the measurement. A property the estimates do not
+contain gets the verdict ``not estimated`` rather than silently passing.
+
+MEMORY: the EN 14214 CFPP grade ladder is assumed equal to the EN 590 ladder
+(standards.md 1.2); the EN 590 arctic class 0 cloud point (-10 degC) is from memory
+(standards.md 3.4).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from functools import cache
+
+import numpy as np
+import pandas as pd
+
+from estimator.errors import UnknownNameError
+
+__all__ = [
+    "EXACT_PROPERTIES",
+    "PROPERTY_LABELS",
+    "VERDICTS",
+    "check",
+    "climate_classes",
+    "composition_estimates",
+    "known_specs",
+    "limits",
+    "normalise_climate_class",
+    "spec_table",
+    "summarise",
+]
+
+#: The verdicts, in order of how much they worry a buyer (best first).
+VERDICTS = ("meets", "too close to call", "fails", "not estimated")
+
+#: Properties fixed exactly by the composition (limits on the GC result itself).
+EXACT_PROPERTIES = ("linolenic_wt_pct", "pufa4_wt_pct")
+
+#: Short names for the properties in verdict summaries, tables and plots.
+PROPERTY_LABELS = {
+    "cetane_number": "cetane number",
+    "iodine_value_gI2_100g": "iodine value",
+    "cfpp_C": "CFPP",
+    "cloud_point_C": "cloud point",
+    "pour_point_C": "pour point",
+    "oxidation_stability_110C_h": "oxidation stability",
+    "density_15C_kg_m3": "density",
+    "kin_viscosity_40C_mm2_s": "viscosity",
+    "linolenic_wt_pct": "linolenic ester",
+    "pufa4_wt_pct": "esters with ≥ 4 double bonds",
+    "hhv_MJ_kg": "higher heating value",
+    "lhv_MJ_kg": "lower heating value",
+}
+
+#: Columns of the table :func:`check` returns.
+CHECK_COLUMNS = [
+    "sample", "spec", "property", "estimate", "error", "limit", "verdict",
+    "bound", "unit", "method", "in_domain", "climate_class", "edition", "mark",
+]
+
+
+@cache
+def spec_table() -> pd.DataFrame:
+    """Every limit of ``specs.csv`` (callers must not modify the frame; copy it)."""
+    from estimator.tables import load_table
+
+    table = load_table("specs").copy()
+    table["climate_class"] = table["climate_class"].astype(object).where(
+        table["climate_class"].notna(), None
+    )
+    table["exact_from_composition"] = table["exact_from_composition"].astype(bool)
+    return table
+
+
+def known_specs() -> list[str]:
+    """The specification keys in ``specs.csv``, in file order.
+
+    Examples
+    --------
+    >>> known_specs()
+    ['en14214', 'astm-d6751', 'en590', 'astm-d7467']
+    """
+    return list(dict.fromkeys(spec_table()["spec"]))
+
+
+def climate_classes(specs: Iterable[str] | None = None) -> list[str]:
+    """Climate classes that have limits (all specifications, or only those named).
+
+    Examples
+    --------
+    >>> climate_classes(["en14214"])
+    ['A', 'B', 'C', 'D', 'E', 'F', '0', '1', '2', '3', '4']
+    """
+    table = spec_table()
+    if specs is not None:
+        table = table[table["spec"].isin(list(specs))]
+    return list(dict.fromkeys(c for c in table["climate_class"] if c is not None))
+
+
+def _normalise_specs(specs: str | Sequence[str]) -> list[str]:
+    names = [specs] if isinstance(specs, str) else list(specs)
+    known = known_specs()
+    out = []
+    for name in names:
+        key = str(name).strip().lower().replace("_", "-").replace(" ", "-")
+        if key not in known:
+            raise UnknownNameError(
+                f"unknown specification {name!r}; known specifications: {', '.join(known)}"
+            )
+        if key not in out:
+            out.append(key)
+    if not out:
+        raise UnknownNameError(f"no specification given; known specifications: {', '.join(known)}")
+    return out
+
+
+def normalise_climate_class(climate_class: str | None) -> str | None:
+    """The canonical key of a climate class (``'c'``, ``'grade C'`` -> ``'C'``; ``'arctic 2'``
+    -> ``'2'``); ``None`` stays ``None``. Unknown classes raise UnknownNameError listing them.
+    """
+    if climate_class is None:
+        return None
+    key = str(climate_class).strip().upper()
+    for prefix in ("ARCTIC", "CLASS", "GRADE"):
+        key = key.removeprefix(prefix).strip(" -")
+    known = climate_classes()
+    if key not in known:
+        raise UnknownNameError(
+            f"unknown climate class {climate_class!r}; known classes: {', '.join(known)} "
+            "(A-F temperate grades, 0-4 arctic classes)"
+        )
+    return key
+
+
+def limits(specs: str | Sequence[str], climate_class: str | None = None) -> pd.DataFrame:
+    """The limits that apply for the named specifications and climate class.
+
+    Climate-class rows replace the general row of the same spec, property and bound;
+    without a class, climate-dependent limits (e.g. CFPP) are left out.
+
+    Raises
+    ------
+    UnknownNameError
+        For an unknown specification or climate class; the message lists the known ones.
+
+    Examples
+    --------
+    >>> t = limits("en14214", climate_class="C")
+    >>> float(t.loc[t["property"] == "cfpp_C", "max"].iloc[0])
+    -5.0
+    """
+    names = _normalise_specs(specs)
+    cls = normalise_climate_class(climate_class)
+    table = spec_table()
+    table = table[table["spec"].isin(names)].copy()
+    table["bound"] = np.where(table["min"].notna(), "min", "max")
+    table["limit"] = table["min"].where(table["min"].notna(), table["max"])
+    general = table[table["climate_class"].isna()]
+    if cls is None:
+        chosen = general
+    else:
+        special = table[table["climate_class"] == cls]
+        keys = set(zip(special["spec"], special["property"], special["bound"]))
+        keep = [k not in keys for k in zip(general["spec"], general["property"], general["bound"])]
+        chosen = pd.concat([general[keep], special])
+    order = {name: i for i, name in enumerate(names)}
+    chosen = chosen.assign(_o=chosen["spec"].map(order), _r=chosen.index)
+    return chosen.sort_values(["_o", "_r"]).drop(columns=["_o", "_r"]).reset_index(drop=True)
+
+
+def composition_estimates(wt_pct: np.ndarray, samples: Sequence[str]) -> pd.DataFrame:
+    """Long-format rows for the properties the composition fixes exactly.
+
+    Same columns as the estimates of :mod:`estimator.properties.predict`
+    (sample, property, method, value, unit, error, in_domain, note); error is 0.
+    """
+    from estimator.properties.descriptors import descriptors
+
+    desc = descriptors(np.asarray(wt_pct, dtype=float))
+    parts = []
+    for prop in EXACT_PROPERTIES:
+        parts.append(pd.DataFrame({
+            "sample": list(samples), "property": prop, "method": "composition",
+            "value": desc[prop], "unit": "wt %", "error": 0.0, "in_domain": True,
+            "note": "from the profile itself (EN 14214 limits the GC result)",
+        }))
+    return pd.concat(parts, ignore_index=True)
+
+
+def _as_long(estimates: pd.DataFrame) -> pd.DataFrame:
+    """Accept the long estimates table or the wide view and return long rows."""
+    if {"property", "value"} <= set(estimates.columns):
+        long = estimates.copy()
+    else:
+        if "sample" not in estimates.columns:
+            raise ValueError("estimates need a 'sample' column (long or wide estimates table)")
+        props = [
+            c for c in estimates.columns
+            if c in set(spec_table()["property"]) and pd.api.types.is_numeric_dtype(estimates[c])
+        ]
+        parts = []
+        for prop in props:
+            err_col = f"{prop}_error"
+            parts.append(pd.DataFrame({
+                "sample": estimates["sample"].astype(str).to_numpy(),
+                "property": prop,
+                "method": "",
+                "value": estimates[prop].to_numpy(dtype=float),
+                "error": (estimates[err_col].to_numpy(dtype=float)
+                          if err_col in estimates.columns else np.nan),
+                "in_domain": True,
+            }))
+        long = pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(
+            columns=["sample", "property", "method", "value", "error", "in_domain"])
+    for col, default in (("method", ""), ("error", np.nan), ("in_domain", True)):
+        if col not in long.columns:
+            long[col] = default
+    for col in ("sample", "property", "method"):
+        long[col] = long[col].astype(str)
+    long["error"] = long["error"].astype(float)
+    return long
+
+
+def check(
+    estimates: pd.DataFrame,
+    specs: str | Sequence[str] = ("en14214", "astm-d6751"),
+    climate_class: str | None = None,
+) -> pd.DataFrame:
+    """Verdict of every estimate against every applicable limit.
+
+    Parameters
+    ----------
+    estimates : DataFrame
+        The long estimates table (sample, property, method, value, unit, error,
+        in_domain, note) or its wide view (sample, <property>, <property>_error ...).
+        Several methods for one property give one verdict row each.
+    specs : str or sequence of str
+        Specification keys (see :func:`known_specs`).
+    climate_class : str, optional
+        A-F or 0-4; selects the CFPP (and arctic) limits. Without it those are skipped.
+
+    Returns
+    -------
+    DataFrame
+        One row per sample, limit and method: sample, spec, property, estimate,
+        error, limit, verdict, then bound (min/max), unit, method, in_domain,
+        climate_class, edition, mark. ``error`` is 0 for limits the composition fixes
+        exactly; an unknown error (NaN) gives no band.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> est = pd.DataFrame({"sample": ["a", "b", "c"], "cetane_number": [55.0, 51.5, 45.0],
+    ...                     "cetane_number_error": [2.0, 2.0, 2.0]})
+    >>> t = check(est, "en14214")
+    >>> t.loc[t["property"] == "cetane_number", "verdict"].tolist()
+    ['meets', 'too close to call', 'fails']
+    >>> sorted(set(t.loc[t["property"] == "density_15C_kg_m3", "verdict"]))
+    ['not estimated']
+    """
+    lim = limits(specs, climate_class)
+    long = _as_long(estimates)
+    samples = list(dict.fromkeys(long["sample"]))
+    if not samples:
+        return pd.DataFrame(columns=CHECK_COLUMNS)
+    # One row per (sample, property, method) estimate; samples without an estimate of a
+    # limited property get a NaN placeholder so the limit is reported as not estimated.
+    long = long.loc[long["property"].isin(set(lim["property"])),
+                    ["sample", "property", "method", "value", "error", "in_domain"]]
+    present = long[["sample", "property"]].drop_duplicates()
+    wanted = pd.MultiIndex.from_product([samples, lim["property"].unique()],
+                                        names=["sample", "property"]).to_frame(index=False)
+    missing = wanted.merge(present, how="left", indicator=True)
+    missing = missing[missing["_merge"] == "left_only"].drop(columns="_merge")
+    if len(missing):
+        missing = missing.assign(method="", value=np.nan, error=np.nan, in_domain=True)
+        long = pd.concat([long, missing], ignore_index=True)
+    merged = long.merge(
+        lim[["spec", "property", "bound", "limit", "unit", "exact_from_composition",
+             "climate_class", "edition", "mark"]],
+        on="property", how="inner",
+    )
+    value = merged["value"].to_numpy(dtype=float)
+    limit = merged["limit"].to_numpy(dtype=float)
+    exact = merged["exact_from_composition"].to_numpy(dtype=bool)
+    error = np.where(exact, 0.0, merged["error"].to_numpy(dtype=float))
+    merged["error"] = error
+    merged["verdict"] = _verdicts(value, error, limit, merged["bound"].to_numpy() == "min")
+    merged = merged.rename(columns={"value": "estimate"})
+    order_s = {s: i for i, s in enumerate(samples)}
+    order_l = {k: i for i, k in enumerate(zip(lim["spec"], lim["property"], lim["bound"]))}
+    merged["_s"] = merged["sample"].map(order_s)
+    merged["_l"] = [order_l[k] for k in zip(merged["spec"], merged["property"], merged["bound"])]
+    merged = merged.sort_values(["_s", "_l", "method"], kind="stable")
+    return merged[CHECK_COLUMNS].reset_index(drop=True)
+
+
+def _verdicts(value: np.ndarray, error: np.ndarray, limit: np.ndarray,
+              is_min: np.ndarray) -> np.ndarray:
+    """Vectorised verdicts; a NaN error counts as no band."""
+    band = np.nan_to_num(error, nan=0.0)
+    close = np.abs(value - limit) < band
+    ok = np.where(is_min, value >= limit, value <= limit)
+    out = np.where(close, VERDICTS[1], np.where(ok, VERDICTS[0], VERDICTS[2]))
+    return np.where(np.isnan(value), VERDICTS[3], out).astype(object)
+
+
+def summarise(verdicts: pd.DataFrame) -> pd.DataFrame:
+    """One summary cell per sample and specification, e.g. ``fails (iodine value, CFPP)``.
+
+    The worst outcome leads: ``fails (...)``, then ``too close to call (...)``, then
+    ``not estimated (...)``; a sample is ``meets`` only when every limit is met. With
+    several methods per property the worst verdict of that property counts.
+
+    Returns
+    -------
+    DataFrame
+        Index: samples (first-seen order); one column per specification key.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> v = pd.DataFrame({"sample": ["a", "a", "b"], "spec": "en14214",
+    ...                   "property": ["iodine_value_gI2_100g", "cfpp_C", "cfpp_C"],
+    ...                   "verdict": ["fails", "too close to call", "meets"]})
+    >>> summarise(v)["en14214"].tolist()
+    ['fails (iodine value); too close to call (CFPP)', 'meets']
+    """
+    samples = list(dict.fromkeys(verdicts["sample"]))
+    specs = list(dict.fromkeys(verdicts["spec"]))
+    out = pd.DataFrame(index=pd.Index(samples, name="sample"), columns=specs, dtype=object)
+    for (sample, spec), group in verdicts.groupby(["sample", "spec"], sort=False):
+        worst_by_prop: dict[str, str] = {}
+        for prop, verdict in zip(group["property"], group["verdict"]):
+            old = worst_by_prop.get(prop)
+            worst_by_prop[prop] = verdict if old is None else max(
+                old, verdict, key=_severity)
+        parts = []
+        for verdict in ("fails", "too close to call", "not estimated"):
+            props = [PROPERTY_LABELS.get(p, p) for p, v in worst_by_prop.items() if v == verdict]
+            if props:
+                parts.append(f"{verdict} ({', '.join(dict.fromkeys(props))})")
+        out.loc[sample, spec] = "; ".join(parts) if parts else "meets"
+    return out
+
+
+def _severity(verdict: str) -> int:
+    return {"meets": 0, "not estimated": 1, "too close to call": 2, "fails": 3}[verdict]
