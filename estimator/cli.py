@@ -230,5 +230,16 @@ def _format_plain(frame) -> str:
     return format_table(frame, transpose=False, digits=3)
 
 
+def _register() -> None:
+    """Add the job commands that live in their own modules."""
+    from estimator.cli_compare import check, compare
+
+    for command in (check, compare):
+        cli.add_command(command)
+
+
+_register()
+
+
 if __name__ == "__main__":  # pragma: no cover
     sys.exit(main())

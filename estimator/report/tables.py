@@ -30,6 +30,7 @@ def atomic_write(path: str | Path, writer: Callable[[Path], None]) -> Path:
     tmp = Path(tmp_name)
     try:
         writer(tmp)
+        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the usual file mode
         os.replace(tmp, path)
     finally:
         if tmp.exists():
@@ -37,12 +38,23 @@ def atomic_write(path: str | Path, writer: Callable[[Path], None]) -> Path:
     return path
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def write_table(
-    frame: pd.DataFrame, path: str | Path, *, sheets: dict[str, pd.DataFrame] | None = None
+    frame: pd.DataFrame,
+    path: str | Path,
+    *,
+    sheets: dict[str, pd.DataFrame] | None = None,
+    sheet_name: str = "table",
 ) -> Path:
     """Write a table by the file extension: ``.csv``, ``.xlsx`` or ``.json`` (records).
 
-    ``sheets`` adds further named sheets to an XLSX file (ignored for CSV/JSON).
+    ``sheets`` adds further named sheets to an XLSX file (ignored for CSV/JSON);
+    ``sheet_name`` names the first one.
     """
     path = Path(path)
     suffix = path.suffix.lower()
@@ -56,7 +68,7 @@ def write_table(
             frame.to_csv(tmp, index=False, float_format="%.6g")
         elif suffix == ".xlsx":
             with pd.ExcelWriter(tmp, engine="openpyxl") as xl:
-                frame.to_excel(xl, sheet_name="table", index=False)
+                frame.to_excel(xl, sheet_name=sheet_name[:31], index=False)
                 for name, extra in (sheets or {}).items():
                     extra.to_excel(xl, sheet_name=name[:31], index=False)
         else:
