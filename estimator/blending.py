@@ -1,0 +1,912 @@
+"""FAME blended into diesel at B0 to B100: blend curves and the highest level meeting a target.
+
+A blend level ``BXX`` is ``XX`` % FAME by volume (ASTM terminology, VERIFIED
+standards.md 5 [S48]; EN 590 states FAME content as % V/V too [S20]). The neat
+FAME's properties come from :func:`estimator.properties.predict.estimate` with the
+default methods; the diesel's from a small description (a JSON object or a
+one-row CSV whose keys are the tool's property names) or one of the built-in
+typical diesels of ``estimator/tables/diesels.csv``.
+
+Mixing rules (``BLEND_METHODS``; the first of each property is the default):
+
+- density: ideal mixing by volume, Kay's rule on volume fractions, as Benjumea
+  et al. 2008 used for palm biodiesel-diesel blends (VERIFIED correlations.md
+  7.3 [S27]; conflict C9: volume, not mass, fractions for blends).
+- kinematic viscosity: Arrhenius (logarithmic) rule as Benjumea 2008 used
+  (VERIFIED [S27]); on *mass* fractions by default, because they follow exactly
+  from the two densities, whereas mole fractions need the diesel's mean molar
+  mass, which is only a typical value (about 200 g/mol, MEMORY / common
+  practice). The mole-fraction form is kept as ``arrhenius-mole``.
+- cetane number: linear by volume; approximate (cetane blending is not linear
+  in general: common practice).
+- heating values per kg: mass-weighted; per litre (``lhv_MJ_L``): volume-weighted
+  rho*LHV, the rule of standards.md 5 (DERIVED, standard mixing). Exact for
+  energy, given the component values.
+- cloud point (``ideal-solubility``): the higher of two liquidus temperatures:
+  each saturated methyl ester at its mole fraction in the *blend* (Schroeder-van
+  Laar, :func:`estimator.properties.cold_flow.imahara2006`, the diesel treated as
+  a solvent of the diesel's mean molar mass), and the diesel's own wax, which
+  clouds at the diesel's cloud point when neat and is diluted by the FAME
+  (same ideal-solubility form, an effective enthalpy of fusion of n-paraffin
+  wax of 60 kJ/mol: MEMORY, approximate). The ester liquidus is anchored to the
+  neat FAME's cloud point from the default method by a constant offset in 1/T,
+  so B100 reproduces the neat estimate exactly. ``kay-volume`` is the linear
+  rule Benjumea 2008 found adequate for palm biodiesel blends ([S27]).
+- CFPP (``linear-volume``): no published FAME-diesel CFPP relation is in the
+  shared reference (the [S21] CP-CFPP equations are for neat FAME), so the
+  empirical rule of common practice: linear by volume between the two CFPPs, with a
+  wide stated error (:data:`RULE_ERRORS`). It never puts a blend beyond its
+  components, which keeps winter planning on the safe side. ``cloud-gap`` (ours)
+  keeps the blend below its ideal-solubility cloud point by the volume-weighted
+  CP - CFPP gap of the components; it inherits the dilution depression of the
+  ideal model and can put a blend below both components, so it is not the default.
+
+The ideal-solubility cloud point is a lower bound in tendency: methyl esters are
+polar and less soluble in paraffinic diesel than ideal, so real blends cloud at or
+above it (MEMORY; Benjumea 2008 found the linear rule adequate, [S27]). Its stated
+error is correspondingly wide, and :func:`highest_levels` also reports the level
+with the stated error taken against the blend.
+
+Errors: the component errors (FAME: from the estimate; diesel: optional
+``<property>_error`` keys, else 0) are propagated through each rule and added in
+quadrature to a mixing-rule error that is zero at B0 and B100 and largest at B50,
+``4 phi (1 - phi) * RULE_ERRORS[property]``.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from estimator.errors import InputFileError, UnknownNameError, UsageError
+from estimator.properties.cold_flow import (
+    ZERO_CELSIUS_K,
+    ideal_solubility_temperature_C,
+    imahara2006,
+    saturated_mole_fractions,
+)
+from estimator.properties.descriptors import mean_molar_mass
+from estimator.tables import load_table
+
+__all__ = [
+    "BLEND_METHODS",
+    "BLEND_PROPERTIES",
+    "BLEND_SPECS",
+    "BLEND_SPEC_FAME_CONTENT",
+    "DIESEL_PROPERTIES",
+    "Diesel",
+    "FameComponent",
+    "Target",
+    "blend_arrays",
+    "blend_fractions",
+    "blend_table",
+    "blend_targets",
+    "blend_wide",
+    "diesel_names",
+    "fame_component",
+    "highest_levels",
+    "load_diesel",
+    "parse_levels",
+    "read_diesel",
+    "summary_lines",
+]
+
+#: Properties a diesel description must give, with units.
+DIESEL_PROPERTIES = {
+    "density_15C_kg_m3": "kg/m3",
+    "kin_viscosity_40C_mm2_s": "mm2/s",
+    "cetane_number": "1",
+    "hhv_MJ_kg": "MJ/kg",
+    "lhv_MJ_kg": "MJ/kg",
+    "cloud_point_C": "°C",
+    "cfpp_C": "°C",
+}
+#: Optional keys of a diesel description besides ``<property>_error``.
+DIESEL_OPTIONAL = {"name": None, "mean_molar_mass_g_mol": 200.0}
+#: Mean molar mass of diesel used for mole fractions [g/mol] (MEMORY / common practice:
+#: middle distillate averages about C14-C15; n-tetradecane is 198 g/mol).
+DIESEL_MEAN_MOLAR_MASS_G_MOL = 200.0
+#: Effective enthalpy of fusion of the diesel's n-paraffin wax [kJ/mol]. MEMORY,
+#: approximate: n-alkanes C18-C24 lie roughly between 45 and 75 kJ/mol.
+WAX_ENTHALPY_FUSION_KJ_MOL = 60.0
+#: Enthalpy of fusion used to dilute the FAME's cloud point when no saturated ester
+#: with data is present [kJ/mol]: methyl palmitate's value (MEMORY, species.csv).
+FALLBACK_ENTHALPY_FUSION_KJ_MOL = 55.0
+
+#: Blend output properties and their units, in table order.
+BLEND_PROPERTIES = {
+    "density_15C_kg_m3": "kg/m3",
+    "kin_viscosity_40C_mm2_s": "mm2/s",
+    "cetane_number": "1",
+    "hhv_MJ_kg": "MJ/kg",
+    "lhv_MJ_kg": "MJ/kg",
+    "lhv_MJ_L": "MJ/L",
+    "cloud_point_C": "°C",
+    "cfpp_C": "°C",
+}
+#: Mixing rules per property; the first is the default.
+BLEND_METHODS = {
+    "density_15C_kg_m3": ("kay-volume",),
+    "kin_viscosity_40C_mm2_s": ("arrhenius-mass", "arrhenius-mole"),
+    "cetane_number": ("linear-volume",),
+    "hhv_MJ_kg": ("mass-weighted",),
+    "lhv_MJ_kg": ("mass-weighted",),
+    "lhv_MJ_L": ("volume-weighted",),
+    "cloud_point_C": ("ideal-solubility", "kay-volume"),
+    "cfpp_C": ("linear-volume", "cloud-gap"),
+}
+#: Mixing-rule error at B50 (zero at B0/B100), added in quadrature to the propagated
+#: component errors. Stated by us, not published: density 0.1 % (small excess volumes,
+#: MEMORY); viscosity 3 % (Allen 1999 found +-3 % for the log rule on natural biodiesels,
+#: VERIFIED correlations.md 8.2 [S33]; Benjumea 2008 reported a low AAD, value not seen);
+#: cetane 2 units (common practice: blending is not linear); heating values 0 (energy is
+#: additive); cloud point 5 K (ideal solubility ignores FAME-paraffin non-ideality and
+#: co-crystallisation, Costa et al. [S23]); CFPP 8 K (empirical rule, no source).
+RULE_ERRORS = {
+    "density_15C_kg_m3": ("relative", 0.001),
+    "kin_viscosity_40C_mm2_s": ("relative", 0.03),
+    "cetane_number": ("absolute", 2.0),
+    "hhv_MJ_kg": ("absolute", 0.0),
+    "lhv_MJ_kg": ("absolute", 0.0),
+    "lhv_MJ_L": ("absolute", 0.0),
+    "cloud_point_C": ("absolute", 5.0),
+    "cfpp_C": ("absolute", 8.0),
+}
+_NOTES = {
+    "linear-volume": "approximate: linear by volume (common practice)",
+    "cloud-gap": "empirical rule of ours: CFPP below the blend cloud point by the "
+                 "volume-weighted CP-CFPP gap",
+    "ideal-solubility": "ideal solubility of the saturated esters in the blend and of the "
+                        "diesel's wax; anchored to both neat cloud points",
+}
+
+
+# ---------------------------------------------------------------- diesel
+@dataclass(frozen=True)
+class Diesel:
+    """A diesel described by its own measured or typical properties."""
+
+    name: str
+    values: Mapping[str, float]
+    errors: Mapping[str, float] = field(default_factory=dict)
+    mean_molar_mass_g_mol: float = DIESEL_MEAN_MOLAR_MASS_G_MOL
+    source: str = ""
+
+    def value(self, prop: str) -> float:
+        """The diesel's value of one property."""
+        return float(self.values[prop])
+
+    def error(self, prop: str) -> float:
+        """The stated error of one property (0 when the description gives none)."""
+        return float(self.errors.get(prop, 0.0))
+
+
+def diesel_names() -> list[str]:
+    """Names of the built-in typical diesels (``estimator/tables/diesels.csv``)."""
+    return list(dict.fromkeys(load_table("diesels")["diesel"]))
+
+
+def _builtin_diesel(name: str) -> Diesel:
+    table = load_table("diesels")
+    rows = table[table["diesel"] == name]
+    values = dict(zip(rows["property"], rows["value"].astype(float), strict=True))
+    return _make_diesel(values, name, f"built-in typical diesel {name!r} (diesels.csv)", name)
+
+
+def load_diesel(spec: str) -> Diesel:
+    """A diesel from a file path (.json or one-row .csv) or a built-in name.
+
+    Examples
+    --------
+    >>> d = load_diesel("en590-winter")
+    >>> d.value("cfpp_C"), d.value("cloud_point_C")
+    (-15.0, -5.0)
+    """
+    path = Path(spec)
+    if path.suffix.lower() in (".json", ".csv") or path.exists():
+        return read_diesel(path)
+    names = diesel_names()
+    key = spec.strip().lower()
+    if key in names:
+        return _builtin_diesel(key)
+    raise UnknownNameError(
+        f"unknown diesel {spec!r}; use a built-in name ({', '.join(names)}) or a .json/.csv file"
+    )
+
+
+def read_diesel(path: str | Path) -> Diesel:
+    """Read a diesel description: a JSON object or a one-row CSV keyed by property name.
+
+    Needed keys: those of :data:`DIESEL_PROPERTIES`; optional: ``name``,
+    ``mean_molar_mass_g_mol`` and ``<property>_error``. The file is only read.
+    """
+    path = Path(path)
+    label = path.name
+    if not path.exists():
+        raise InputFileError(f"{label}: no such file")
+    suffix = path.suffix.lower()
+    if suffix == ".json":
+        try:
+            raw = json.loads(path.read_text(encoding="utf-8"))
+        except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+            raise InputFileError(f"{label}: not valid JSON ({exc})") from None
+        if not isinstance(raw, dict):
+            raise InputFileError(f"{label}: expected one JSON object of property: value")
+    elif suffix == ".csv":
+        try:
+            frame = pd.read_csv(path, keep_default_na=False, na_values=[""])
+        except (UnicodeDecodeError, pd.errors.ParserError, pd.errors.EmptyDataError) as exc:
+            raise InputFileError(f"{label}: cannot read as CSV ({exc})") from None
+        if len(frame) != 1:
+            raise InputFileError(f"{label}: a diesel CSV has one data row, found {len(frame)}")
+        raw = {str(k).strip(): v for k, v in frame.iloc[0].items()}
+    else:
+        raise InputFileError(f"{label}: a diesel description is a .json or one-row .csv file")
+    allowed = set(DIESEL_PROPERTIES) | set(DIESEL_OPTIONAL) | {
+        f"{p}_error" for p in DIESEL_PROPERTIES
+    }
+    unknown = [k for k in raw if k not in allowed]
+    if unknown:
+        raise InputFileError(
+            f"{label}: unknown key {unknown[0]!r}; a diesel file takes "
+            f"{', '.join(DIESEL_PROPERTIES)}, optional name, mean_molar_mass_g_mol, "
+            "<property>_error"
+        )
+    values: dict[str, float] = {}
+    for key, val in raw.items():
+        if key == "name":
+            continue
+        try:
+            num = float(val)
+        except (TypeError, ValueError):
+            raise InputFileError(f"{label}: key {key!r}: not a number: {val!r}") from None
+        if not np.isfinite(num):
+            raise InputFileError(f"{label}: key {key!r}: not a finite number: {val!r}")
+        values[key] = num
+    name = str(raw.get("name") or path.stem)
+    return _make_diesel(values, name, label, label)
+
+
+def _make_diesel(values: dict[str, float], name: str, source: str, label: str) -> Diesel:
+    missing = [p for p in DIESEL_PROPERTIES if p not in values]
+    if missing:
+        raise InputFileError(
+            f"{label}: diesel description lacks {missing[0]!r} "
+            f"[{DIESEL_PROPERTIES[missing[0]]}]; it needs {', '.join(DIESEL_PROPERTIES)}"
+        )
+    for prop in ("density_15C_kg_m3", "kin_viscosity_40C_mm2_s", "lhv_MJ_kg", "hhv_MJ_kg"):
+        if values[prop] <= 0:
+            raise InputFileError(f"{label}: {prop!r} must be positive, got {values[prop]:g}")
+    mm = values.get("mean_molar_mass_g_mol", DIESEL_MEAN_MOLAR_MASS_G_MOL)
+    if mm <= 0:
+        raise InputFileError(f"{label}: 'mean_molar_mass_g_mol' must be positive, got {mm:g}")
+    errors = {p: values[f"{p}_error"] for p in DIESEL_PROPERTIES if f"{p}_error" in values}
+    bad = [p for p, e in errors.items() if e < 0]
+    if bad:
+        raise InputFileError(f"{label}: '{bad[0]}_error' must not be negative")
+    return Diesel(
+        name=name,
+        values={p: values[p] for p in DIESEL_PROPERTIES},
+        errors=errors,
+        mean_molar_mass_g_mol=mm,
+        source=source,
+    )
+
+
+# ---------------------------------------------------------------- neat FAME
+@dataclass(frozen=True)
+class FameComponent:
+    """Neat-FAME inputs of the mixing rules, one entry per sample (arrays of shape (n,))."""
+
+    samples: list[str]
+    values: Mapping[str, np.ndarray]
+    errors: Mapping[str, np.ndarray]
+    methods: Mapping[str, np.ndarray]
+    in_domain: Mapping[str, np.ndarray]
+    mean_molar_mass_g_mol: np.ndarray
+    saturated_mole_fraction: np.ndarray  # (n, n_esters), in the neat ester liquid
+    melting_point_C: np.ndarray  # (n_esters,)
+    enthalpy_fusion_kJ_mol: np.ndarray  # (n_esters,)
+
+    def __len__(self) -> int:
+        return len(self.samples)
+
+
+_FAME_PROPERTIES = tuple(p for p in DIESEL_PROPERTIES)
+
+
+def fame_component(wt_pct: np.ndarray, samples: Sequence[str]) -> FameComponent:
+    """Estimate the neat-FAME properties a blend needs (default methods of ``predict``).
+
+    Parameters
+    ----------
+    wt_pct : ndarray, shape (n, n_species)
+        FAME mass %, species-table order. [wt %]
+    samples : sequence of str
+        Sample ids.
+    """
+    from estimator.properties.predict import estimate
+
+    w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
+    samples = [str(s) for s in samples]
+    long = estimate(w, samples, methods="default")
+    long = long[long["property"].isin(_FAME_PROPERTIES)]
+    values, errors, methods, domain = {}, {}, {}, {}
+    for prop in _FAME_PROPERTIES:
+        part = long[long["property"] == prop].set_index("sample").reindex(samples)
+        if part["value"].isna().all() and prop not in set(long["property"]):
+            raise UnknownNameError(f"the property model gives no {prop!r}; cannot blend")
+        values[prop] = part["value"].to_numpy(dtype=float)
+        errors[prop] = np.nan_to_num(part["error"].to_numpy(dtype=float))
+        methods[prop] = part["method"].astype(str).to_numpy()
+        domain[prop] = part["in_domain"].fillna(False).to_numpy(dtype=bool)
+    x_sat, tm, dh = saturated_mole_fractions(w)
+    return FameComponent(
+        samples=samples, values=values, errors=errors, methods=methods, in_domain=domain,
+        mean_molar_mass_g_mol=mean_molar_mass(w), saturated_mole_fraction=x_sat,
+        melting_point_C=tm, enthalpy_fusion_kJ_mol=dh,
+    )
+
+
+# ---------------------------------------------------------------- mixing
+def parse_levels(text: str | Sequence[float]) -> np.ndarray:
+    """Blend levels in % v/v from '0,2,5,7' (or a sequence); each in 0-100, sorted, unique.
+
+    Examples
+    --------
+    >>> parse_levels("20, 0,7,7")
+    array([ 0.,  7., 20.])
+    """
+    items = text.split(",") if isinstance(text, str) else list(text)
+    out = []
+    for item in items:
+        s = str(item).strip().upper().removeprefix("B")
+        if not s:
+            continue
+        try:
+            v = float(s)
+        except ValueError:
+            raise UsageError(f"--levels: {str(item).strip()!r} is not a number (% v/v)") from None
+        if not 0.0 <= v <= 100.0:
+            raise UsageError(f"--levels: {v:g} is outside 0-100 % v/v")
+        out.append(v)
+    if not out:
+        raise UsageError("--levels: give at least one blend level, e.g. 0,2,5,7,10,20")
+    return np.unique(np.asarray(out, dtype=float))
+
+
+def blend_fractions(
+    level_pct_v, density_fame_kg_m3, density_diesel_kg_m3, molar_mass_fame_g_mol,
+    molar_mass_diesel_g_mol,
+):
+    r"""Volume, mass and mole fractions of FAME in a blend.
+
+    .. math::
+
+        \phi = \frac{B}{100},\quad
+        w = \frac{\phi\rho_F}{\phi\rho_F + (1-\phi)\rho_D},\quad
+        x = \frac{w/M_F}{w/M_F + (1-w)/M_D}
+
+    Parameters
+    ----------
+    level_pct_v : array_like
+        Blend level B (FAME % by volume). [% v/v]
+    density_fame_kg_m3, density_diesel_kg_m3 : array_like
+        Densities of the neat components at 15 degC. [kg/m3]
+    molar_mass_fame_g_mol, molar_mass_diesel_g_mol : array_like
+        Mean molar masses. [g/mol]
+
+    Returns
+    -------
+    phi, w, x : ndarray
+        Volume, mass and mole fraction of FAME (broadcast shape). [1]
+
+    Notes
+    -----
+    Ideal mixing (no excess volume), so volume fractions are those of the neat
+    liquids at 15 degC (standards.md 5, blend rule; DERIVED).
+
+    References
+    ----------
+    .. [1] ASTM D6751 terminology, BXX as volume percentage of biodiesel
+       (standards.md 5 [S48], VERIFIED).
+
+    Examples
+    --------
+    B20 of the GREET B100 (887.9 kg/m3) in GREET diesel (836.6 kg/m3), our
+    arithmetic w = 177.58 / (177.58 + 669.28):
+
+    >>> phi, w, x = blend_fractions(20.0, 887.9, 836.6, 290.0, 200.0)
+    >>> round(float(w), 4)
+    0.2097
+    """
+    phi = np.asarray(level_pct_v, dtype=float) / 100.0
+    mf = phi * np.asarray(density_fame_kg_m3, dtype=float)
+    md = (1.0 - phi) * np.asarray(density_diesel_kg_m3, dtype=float)
+    w = mf / (mf + md)
+    nf = w / np.asarray(molar_mass_fame_g_mol, dtype=float)
+    nd = (1.0 - w) / np.asarray(molar_mass_diesel_g_mol, dtype=float)
+    x = nf / (nf + nd)
+    return phi, w, x
+
+
+def _rss(*terms):
+    return np.sqrt(sum(np.square(t) for t in terms))
+
+
+def _kelvin(t_c):
+    return np.asarray(t_c, dtype=float) + ZERO_CELSIUS_K
+
+
+def blend_arrays(
+    fame: FameComponent, diesel: Diesel, levels_pct_v, *, methods: str = "default",
+    only: str | None = None,
+) -> dict[tuple[str, str], tuple[np.ndarray, np.ndarray]]:
+    """Blend properties on a grid: ``{(property, method): (value, error)}``, arrays (n, L).
+
+    ``methods='default'`` computes the first rule of each property in
+    :data:`BLEND_METHODS`, ``'all'`` every rule; ``only`` restricts the work to one
+    property (used by the root finding). Vectorised over samples and levels.
+    """
+    if methods not in ("default", "all"):
+        raise UnknownNameError(f"unknown methods choice {methods!r}; use default or all")
+    if only is not None and only not in BLEND_PROPERTIES:
+        raise UnknownNameError(
+            f"unknown blend property {only!r}; valid: {', '.join(BLEND_PROPERTIES)}")
+    lv = np.atleast_1d(np.asarray(levels_pct_v, dtype=float))[None, :]
+    col = {p: v[:, None] for p, v in fame.values.items()}
+    err = {p: e[:, None] for p, e in fame.errors.items()}
+    d = {p: diesel.value(p) for p in DIESEL_PROPERTIES}
+    de = {p: diesel.error(p) for p in DIESEL_PROPERTIES}
+    rho_f, rho_d = col["density_15C_kg_m3"], d["density_15C_kg_m3"]
+    phi, w, x = blend_fractions(
+        lv, rho_f, rho_d, fame.mean_molar_mass_g_mol[:, None], diesel.mean_molar_mass_g_mol
+    )
+    shape = np.broadcast_shapes(phi.shape, rho_f.shape)
+    phi = np.broadcast_to(phi, shape)
+    bell = 4.0 * phi * (1.0 - phi)  # mixing-rule error weight: 0 at the ends, 1 at B50
+
+    def rule(prop, value):
+        kind, size = RULE_ERRORS[prop]
+        return bell * size * (np.abs(value) if kind == "relative" else 1.0)
+
+    def want(*props):
+        return only is None or only in props
+
+    out: dict[tuple[str, str], tuple[np.ndarray, np.ndarray]] = {}
+    every = methods == "all"
+
+    def linear(prop, frac):
+        with np.errstate(invalid="ignore"):
+            value = frac * col[prop] + (1.0 - frac) * d[prop]
+            error = _rss(frac * err[prop], (1.0 - frac) * de[prop], rule(prop, value))
+        # B0 is the diesel even where the FAME value is missing (NaN).
+        return np.where(frac <= 0, d[prop], value), np.where(frac <= 0, de[prop], error)
+
+    if want("density_15C_kg_m3", "lhv_MJ_L"):
+        out["density_15C_kg_m3", "kay-volume"] = linear("density_15C_kg_m3", phi)
+    nu = "kin_viscosity_40C_mm2_s"
+    if want(nu):
+        for name, frac in (("arrhenius-mass", w), ("arrhenius-mole", x)):
+            if name == "arrhenius-mole" and not every:
+                continue
+            value = np.exp(frac * np.log(col[nu]) + (1.0 - frac) * np.log(d[nu]))
+            rel = _rss(frac * err[nu] / col[nu], (1.0 - frac) * de[nu] / d[nu])
+            out[nu, name] = value, _rss(value * rel, rule(nu, value))
+    if want("cetane_number"):
+        out["cetane_number", "linear-volume"] = linear("cetane_number", phi)
+    if want("hhv_MJ_kg"):
+        out["hhv_MJ_kg", "mass-weighted"] = linear("hhv_MJ_kg", w)
+    if want("lhv_MJ_kg", "lhv_MJ_L"):
+        lhv, lhv_err = linear("lhv_MJ_kg", w)
+        out["lhv_MJ_kg", "mass-weighted"] = lhv, lhv_err
+    if want("lhv_MJ_L"):
+        rho, rho_err = out["density_15C_kg_m3", "kay-volume"]
+        lhv_l = rho * lhv / 1000.0
+        out["lhv_MJ_L", "volume-weighted"] = lhv_l, lhv_l * _rss(rho_err / rho, lhv_err / lhv)
+    if want("cloud_point_C") or (every and want("cfpp_C")):
+        cp, cp_err = _cloud_ideal(fame, diesel, x, phi, rule)
+        out["cloud_point_C", "ideal-solubility"] = cp, cp_err
+        if every:
+            out["cloud_point_C", "kay-volume"] = linear("cloud_point_C", phi)
+    if want("cfpp_C"):
+        out["cfpp_C", "linear-volume"] = linear("cfpp_C", phi)
+        if every:
+            gap = phi * (col["cloud_point_C"] - col["cfpp_C"]) + (1.0 - phi) * (
+                d["cloud_point_C"] - d["cfpp_C"]
+            )
+            cf = np.where(phi <= 0, d["cfpp_C"], np.where(phi >= 1, col["cfpp_C"], cp - gap))
+            out["cfpp_C", "cloud-gap"] = cf, np.where(phi <= 0, de["cfpp_C"], _rss(
+                phi * err["cfpp_C"], (1 - phi) * de["cfpp_C"], rule("cfpp_C", cf)))
+    if only is not None:
+        out = {k: v for k, v in out.items() if k[0] == only}
+    return out
+
+
+def _cloud_ideal(fame: FameComponent, diesel: Diesel, x, phi, rule):
+    """Cloud point of the blend: max of the anchored ester liquidus and the diluted diesel wax."""
+    cp_f = fame.values["cloud_point_C"][:, None]
+    cp_d = diesel.value("cloud_point_C")
+    x_sat = fame.saturated_mole_fraction  # (n, k)
+    tm, dh = fame.melting_point_C, fame.enthalpy_fusion_kJ_mol
+    thermo_neat = imahara2006(x_sat, tm, dh)[:, None]  # (n, 1), NaN without saturated esters
+    # Ester liquidus in the blend: each saturated ester's mole fraction diluted by x.
+    t_i = ideal_solubility_temperature_C(x[:, :, None] * x_sat[:, None, :], tm, dh)
+    thermo_blend = t_i.max(axis=-1, initial=-ZERO_CELSIUS_K)
+    offset = 1.0 / _kelvin(cp_f) - 1.0 / _kelvin(thermo_neat)  # anchor at the neat estimate
+    with np.errstate(divide="ignore"):
+        inv = 1.0 / _kelvin(thermo_blend) + np.where(np.isfinite(offset), offset, 0.0)
+        t_fame = np.where(
+            np.isfinite(thermo_neat),
+            1.0 / inv - ZERO_CELSIUS_K,
+            ideal_solubility_temperature_C(x, cp_f, FALLBACK_ENTHALPY_FUSION_KJ_MOL),
+        )
+    # No neat cloud point (no saturated ester crystallises): the esters add no liquidus;
+    # the neat FAME itself stays NaN, as its estimate is.
+    t_fame = np.where((x > 0) & np.isfinite(cp_f), t_fame, -ZERO_CELSIUS_K)
+    t_wax = ideal_solubility_temperature_C(1.0 - x, cp_d, WAX_ENTHALPY_FUSION_KJ_MOL)
+    fame_controls = t_fame >= t_wax
+    cp = np.where(fame_controls, t_fame, t_wax)
+    cp = np.where(np.isnan(cp_f) & (x >= 1.0), np.nan, cp)
+    # Sensitivity of an ideal-solubility temperature to its anchor: dT/dT0 = (T/T0)^2.
+    with np.errstate(invalid="ignore"):
+        sens_f = np.nan_to_num(np.square(_kelvin(t_fame) / _kelvin(cp_f)))
+    sens_d = np.square(_kelvin(t_wax) / _kelvin(cp_d))
+    comp_err = np.where(
+        fame_controls,
+        sens_f * fame.errors["cloud_point_C"][:, None],
+        sens_d * diesel.error("cloud_point_C"),
+    )
+    return cp, _rss(comp_err, rule("cloud_point_C", cp))
+
+
+def blend_table(
+    fame: FameComponent, diesel: Diesel, levels_pct_v, *, methods: str = "default"
+) -> pd.DataFrame:
+    """The long blend table, one row per sample, level, property and mixing rule.
+
+    Columns ``sample, level_pct_v, fame_wt_pct, property, method, value, unit, error,
+    in_domain, note``, like the long table of ``predict`` with the level added.
+    ``methods='all'`` adds the alternative rules of :data:`BLEND_METHODS`.
+    """
+    levels = np.atleast_1d(np.asarray(levels_pct_v, dtype=float))
+    arrays = blend_arrays(fame, diesel, levels, methods=methods)
+    n, m = len(fame), len(levels)
+    w = _mass_fraction(fame, diesel, levels)
+    sample = np.repeat(np.asarray(fame.samples, dtype=object), m)
+    level = np.tile(levels, n)
+    frames = []
+    for (prop, method), (value, error) in arrays.items():
+        base = "lhv_MJ_kg" if prop == "lhv_MJ_L" else prop
+        dom = np.repeat(fame.in_domain[base], m) | (level == 0.0)
+        fame_method = pd.Series(np.repeat(fame.methods[base], m), dtype=object)
+        extra = _NOTES.get(method, "")
+        tail = f"; diesel {diesel.name}" + (f"; {extra}" if extra else "")
+        frames.append(pd.DataFrame({
+            "sample": sample, "level_pct_v": level, "fame_wt_pct": 100.0 * w.ravel(),
+            "property": prop, "method": method, "value": value.ravel(),
+            "unit": BLEND_PROPERTIES[prop], "error": error.ravel(), "in_domain": dom,
+            "note": ("FAME by " + fame_method + tail).to_numpy(),
+        }))
+    long = pd.concat(frames, ignore_index=True)
+    prop_rank = long["property"].map({p: i for i, p in enumerate(BLEND_PROPERTIES)})
+    sample_rank = np.repeat(np.arange(n), m)
+    sample_rank = np.tile(sample_rank, len(arrays))
+    order = np.lexsort((prop_rank.to_numpy(), long["level_pct_v"].to_numpy(), sample_rank))
+    return long.iloc[order].reset_index(drop=True)
+
+
+def _mass_fraction(fame: FameComponent, diesel: Diesel, levels: np.ndarray) -> np.ndarray:
+    _, w, _ = blend_fractions(
+        levels[None, :], fame.values["density_15C_kg_m3"][:, None],
+        diesel.value("density_15C_kg_m3"), fame.mean_molar_mass_g_mol[:, None],
+        diesel.mean_molar_mass_g_mol,
+    )
+    return w
+
+
+def blend_wide(
+    fame: FameComponent, diesel: Diesel, levels_pct_v
+) -> pd.DataFrame:
+    """The wide blend table: one row per sample and level, default rule per property.
+
+    Columns ``sample, level_pct_v, fame_wt_pct``, the properties of
+    :data:`BLEND_PROPERTIES`, then ``<property>_error`` for each, then ``flags``
+    (properties whose neat-FAME estimate is outside its method's fitted domain).
+    """
+    levels = np.atleast_1d(np.asarray(levels_pct_v, dtype=float))
+    arrays = blend_arrays(fame, diesel, levels)
+    n, m = len(fame), len(levels)
+    w = _mass_fraction(fame, diesel, levels)
+    table = {
+        "sample": np.repeat(np.asarray(fame.samples, dtype=object), m),
+        "level_pct_v": np.tile(levels, n),
+        "fame_wt_pct": 100.0 * w.ravel(),
+    }
+    for prop in BLEND_PROPERTIES:
+        table[prop] = arrays[prop, BLEND_METHODS[prop][0]][0].ravel()
+    for prop in BLEND_PROPERTIES:
+        table[f"{prop}_error"] = arrays[prop, BLEND_METHODS[prop][0]][1].ravel()
+    out_of = [
+        ", ".join(p for p in _FAME_PROPERTIES if not fame.in_domain[p][i]) for i in range(n)
+    ]
+    flags = np.repeat(np.asarray(
+        [f"FAME outside fitted domain: {s}" if s else "" for s in out_of], dtype=object), m)
+    flags[np.tile(levels, n) == 0.0] = ""
+    table["flags"] = flags
+    return pd.DataFrame(table)
+
+
+# ---------------------------------------------------------------- targets
+@dataclass(frozen=True)
+class Target:
+    """A limit a blend must meet: ``value <= limit`` (``kind='max'``) or ``>=`` (``'min'``).
+
+    ``group`` ties the property limits of one specification together with the
+    FAME content that specification allows (``max_level_pct_v``,
+    ``min_level_pct_v``).
+    """
+
+    property: str
+    kind: str
+    limit: float
+    label: str
+    group: str = "target"
+    max_level_pct_v: float = 100.0
+    min_level_pct_v: float = 0.0
+    source: str = ""
+
+
+def _margin(fame_i: FameComponent, diesel: Diesel, target: Target, with_error: bool):
+    prop = target.property
+    key = (prop, BLEND_METHODS[prop][0])
+    sign = 1.0 if target.kind == "max" else -1.0
+
+    def g(level: float) -> float:
+        v, e = blend_arrays(fame_i, diesel, [level], only=prop)[key]
+        value = float(v[0, 0]) + (sign * float(e[0, 0]) if with_error else 0.0)
+        return sign * (value - target.limit)
+
+    return g
+
+
+#: Grid on which the first crossing of a target is bracketed before brentq [% v/v].
+ROOT_GRID_PCT_V = np.linspace(0.0, 100.0, 101)
+
+
+def _crossings(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Per row: index of the first grid point with margin > 0 (-1 if none), and NaN rows."""
+    bad = values > 0
+    first = np.where(bad.any(axis=1), bad.argmax(axis=1), -1)
+    return first, np.isnan(values).any(axis=1)
+
+
+def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target]) -> pd.DataFrame:
+    """Highest blend level meeting each target and each specification group, per sample.
+
+    The level is the largest B such that the blend meets the target at every level
+    from B0 up to B: the margin is evaluated on a 1 % v/v grid for every sample at
+    once, and the first sign change is refined by :func:`scipy.optimize.brentq` on
+    the continuous blend curve (default rule). ``highest_level_with_error_pct_v``
+    does the same with the stated error taken against the blend. A specification
+    group's level is the lowest of its targets, capped at the FAME content that
+    specification allows; NaN when no level meets it.
+    """
+    from scipy.optimize import brentq
+
+    grid = ROOT_GRID_PCT_V
+    props = list(dict.fromkeys(t.property for t in targets))
+    curves = {}
+    for prop in props:
+        curves.update(blend_arrays(fame, diesel, grid, only=prop))
+    results: dict[tuple[int, bool], np.ndarray] = {}
+    hows: dict[int, np.ndarray] = {}
+    for k, t in enumerate(targets):
+        v, e = curves[t.property, BLEND_METHODS[t.property][0]]
+        sign = 1.0 if t.kind == "max" else -1.0
+        for with_error in (False, True):
+            margin = sign * (v + (sign * e if with_error else 0.0) - t.limit)
+            first, nan = _crossings(margin)
+            level = np.where(first < 0, grid[-1], np.nan)
+            how = np.where(first < 0, "met at every level", "root of the blend curve")
+            how = np.where(first == 0, "the diesel alone misses it", how)
+            for i in np.flatnonzero(first > 0):
+                g = _margin(_take(fame, int(i)), diesel, t, with_error)
+                j = int(first[i])
+                level[i] = brentq(g, grid[j - 1], grid[j], xtol=1e-6)
+            level[nan] = np.nan
+            how = np.where(nan, "not computable (a component value is missing)", how)
+            results[k, with_error] = level
+            if not with_error:
+                hows[k] = how
+    rows = []
+    for i, sample in enumerate(fame.samples):
+        groups: dict[str, list] = {}
+        for k, t in enumerate(targets):
+            row = {
+                "sample": sample, "group": t.group, "target": t.label, "property": t.property,
+                "kind": t.kind, "limit": t.limit,
+                "highest_level_pct_v": float(results[k, False][i]),
+                "highest_level_with_error_pct_v": float(results[k, True][i]),
+                "how": str(hows[k][i]), "source": t.source,
+            }
+            rows.append(row)
+            groups.setdefault(t.group, []).append((t, row))
+        for group, members in groups.items():
+            if group != "target":
+                rows.append(_group_row(sample, group, members))
+    return pd.DataFrame(rows)
+
+
+def _group_row(sample: str, group: str, members: list) -> dict:
+    t0 = members[0][0]
+    cap, floor = t0.max_level_pct_v, t0.min_level_pct_v
+
+    def lowest(key):
+        vals = [r[key] for _, r in members]
+        return np.nan if any(np.isnan(v) for v in vals) else min(vals)
+
+    def capped(v):
+        if np.isnan(v):
+            return np.nan
+        v = min(v, cap)
+        return v if v >= floor else np.nan
+
+    raw = lowest("highest_level_pct_v")
+    lvl, lvl_e = capped(raw), capped(lowest("highest_level_with_error_pct_v"))
+    limiting = [r["target"] for _, r in members
+                if np.isnan(r["highest_level_pct_v"]) or r["highest_level_pct_v"] == raw]
+    if np.isnan(lvl):
+        how = f"no level from B{floor:g} to B{cap:g} meets {', '.join(limiting)}"
+    elif lvl == cap:
+        how = f"capped at the B{cap:g} the specification allows"
+    else:
+        how = f"limited by {', '.join(limiting)}"
+    return {
+        "sample": sample, "group": group, "target": f"{_SPEC_NAMES.get(group, group)} "
+        "(all its limits)", "property": "all", "kind": "", "limit": np.nan,
+        "highest_level_pct_v": lvl, "highest_level_with_error_pct_v": lvl_e, "how": how,
+        "source": t0.source,
+    }
+
+
+def _take(fame: FameComponent, i: int) -> FameComponent:
+    sl = slice(i, i + 1)
+    return FameComponent(
+        samples=fame.samples[sl], values={k: v[sl] for k, v in fame.values.items()},
+        errors={k: v[sl] for k, v in fame.errors.items()},
+        methods={k: v[sl] for k, v in fame.methods.items()},
+        in_domain={k: v[sl] for k, v in fame.in_domain.items()},
+        mean_molar_mass_g_mol=fame.mean_molar_mass_g_mol[sl],
+        saturated_mole_fraction=fame.saturated_mole_fraction[sl],
+        melting_point_C=fame.melting_point_C,
+        enthalpy_fusion_kJ_mol=fame.enthalpy_fusion_kJ_mol,
+    )
+
+
+#: FAME content each blend specification allows [% v/v]: (min, max, source).
+BLEND_SPEC_FAME_CONTENT = {
+    "en590": (0.0, 7.0, "EN 590:2022: up to 7.0 % (V/V) FAME (standards.md 3.3, VERIFIED [S20])"),
+    "astm-d7467": (6.0, 20.0, "ASTM D7467: B6 to B20 (standards.md 3.2, VERIFIED [S12])"),
+}
+#: Blend specifications checked by default.
+BLEND_SPECS = tuple(BLEND_SPEC_FAME_CONTENT)
+_COLD = ("cfpp_C", "cloud_point_C")
+
+
+def _label(prop: str, kind: str, limit: float, unit: str) -> str:
+    from estimator.specs import PROPERTY_LABELS
+
+    unit = "" if unit in ("1", "") else f" {unit}"
+    return f"{PROPERTY_LABELS.get(prop, prop)} {'<=' if kind == 'max' else '>='} {limit:g}{unit}"
+
+
+def blend_targets(
+    *,
+    max_cfpp_C: float | None = None,
+    max_cloud_point_C: float | None = None,
+    climate_class: str | None = None,
+    specs: Sequence[str] = BLEND_SPECS,
+) -> list[Target]:
+    """The targets of a blend job: the user's cold-flow limits, a climate class, blend specs.
+
+    A climate class (EN 590 A-F, arctic 0-4; limits from ``specs.csv``) adds its CFPP
+    (and, for arctic classes, cloud point) as targets and also applies to the EN 590
+    group. Each specification in ``specs`` becomes a group of property targets with
+    the FAME content it allows (:data:`BLEND_SPEC_FAME_CONTENT`).
+
+    Raises
+    ------
+    UsageError
+        ``--max-cfpp`` or ``--max-cloud-point`` given together with a climate class
+        that sets a different limit for the same property (contradictory targets).
+    UnknownNameError
+        An unknown blend specification or climate class.
+
+    Examples
+    --------
+    >>> [t.label for t in blend_targets(climate_class="F", specs=())]
+    ['CFPP <= -20 °C']
+    """
+    from estimator.specs import limits
+
+    targets: list[Target] = []
+    user = {"cfpp_C": max_cfpp_C, "cloud_point_C": max_cloud_point_C}
+    option = {"cfpp_C": "--max-cfpp", "cloud_point_C": "--max-cloud-point"}
+    for prop, value in user.items():
+        if value is not None:
+            if not np.isfinite(value):
+                raise UsageError(f"{option[prop]}: not a finite temperature: {value}")
+            targets.append(Target(prop, "max", float(value),
+                                  _label(prop, "max", float(value), "°C"), source="user"))
+    if climate_class is not None:
+        table = limits("en590", climate_class)
+        table = table[table["climate_class"].notna() & table["property"].isin(_COLD)]
+        for row in table.itertuples(index=False):
+            given = user[row.property]
+            if given is not None and float(given) != float(row.limit):
+                raise UsageError(
+                    f"{option[row.property]} {given:g} contradicts --climate-class "
+                    f"{climate_class} (EN 590 {row.property} max {row.limit:g} °C); give one"
+                )
+            if given is None:
+                targets.append(Target(
+                    row.property, "max", float(row.limit),
+                    _label(row.property, "max", float(row.limit), "°C"),
+                    source=f"EN 590 class {row.climate_class}: {row.source}",
+                ))
+    for spec in specs:
+        key = str(spec).strip().lower()
+        if key not in BLEND_SPEC_FAME_CONTENT:
+            raise UnknownNameError(
+                f"unknown blend specification {spec!r}; blend specifications: "
+                f"{', '.join(BLEND_SPEC_FAME_CONTENT)}"
+            )
+        lo, hi, content_source = BLEND_SPEC_FAME_CONTENT[key]
+        table = limits(key, climate_class if key == "en590" else None)
+        for row in table[table["property"].isin(list(BLEND_PROPERTIES))].itertuples(index=False):
+            targets.append(Target(
+                row.property, row.bound, float(row.limit),
+                _label(row.property, row.bound, float(row.limit), row.unit), group=key,
+                max_level_pct_v=hi, min_level_pct_v=lo,
+                source=f"{row.edition}; {row.source}; FAME content: {content_source}",
+            ))
+    return targets
+
+
+def summary_lines(levels: pd.DataFrame) -> list[str]:
+    """Readable lines 'highest blend level meeting ...' from :func:`highest_levels`.
+
+    One line per sample and user target, and one per sample and specification (all
+    of its limits together); the per-limit rows stay in the table.
+    """
+    lines = []
+    shown = levels[(levels["group"] == "target") | (levels["property"] == "all")]
+    for row in shown.itertuples(index=False):
+        if row.group == "target":
+            what = row.target
+        else:
+            what = f"{_SPEC_NAMES.get(row.group, row.group)} (all its limits)"
+        if np.isnan(row.highest_level_pct_v):
+            lines.append(f"{row.sample}: no blend level meets {what}: {row.how}")
+            continue
+        with_err = row.highest_level_with_error_pct_v
+        err = ("none with the stated error taken against it" if np.isnan(with_err)
+               else "only B0 with the stated error taken against it" if with_err == 0
+               else f"B{with_err:.1f} with the stated error taken against it")
+        if row.highest_level_pct_v == 0:
+            lines.append(f"{row.sample}: only B0 (the diesel alone) meets {what}: any FAME "
+                         "moves the blend past the limit")
+            continue
+        how = "" if row.group == "target" else f"; {row.how}"
+        lines.append(f"{row.sample}: highest blend level meeting {what}: "
+                     f"B{row.highest_level_pct_v:.1f} ({err}{how})")
+    return lines
+
+
+_SPEC_NAMES = {"en590": "EN 590", "astm-d7467": "ASTM D7467"}

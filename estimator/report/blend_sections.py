@@ -1,0 +1,188 @@
+"""HTML report sections of the blend and mix jobs, and one-call report writers.
+
+Built with :mod:`estimator.report.html` (sections, tables, embedded figures); the
+page carries the caution at the top and bottom, and each job's summary section
+repeats the short caution beside its numbers.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from estimator.report.html import Section, bullet_list, figure_html, paragraph, table_html
+
+__all__ = [
+    "blend_sections",
+    "mix_sections",
+    "write_blend_report",
+    "write_mix_report",
+]
+
+_SHORT = {
+    "density_15C_kg_m3": "density 15 °C [kg/m3]",
+    "kin_viscosity_40C_mm2_s": "viscosity 40 °C [mm2/s]",
+    "cetane_number": "cetane number",
+    "hhv_MJ_kg": "HHV [MJ/kg]",
+    "lhv_MJ_kg": "LHV [MJ/kg]",
+    "lhv_MJ_L": "LHV [MJ/L]",
+    "cloud_point_C": "cloud point [°C]",
+    "cfpp_C": "CFPP [°C]",
+}
+
+
+def _pm_column(values, errors, decimals: int) -> list[str]:
+    return [f"{v:.{decimals}f} ± {e:.{decimals}f}" if e > 0 else f"{v:.{decimals}f}"
+            for v, e in zip(values, errors)]
+
+
+def blend_sections(
+    wide: pd.DataFrame,
+    highest: pd.DataFrame | None,
+    diesel,
+    *,
+    figure=None,
+    levels: Sequence[float] | None = None,
+) -> list[Section]:
+    """Sections for a blend job: summary, curves, table, highest levels, methods.
+
+    Parameters
+    ----------
+    wide : DataFrame
+        From :func:`estimator.blending.blend_wide`.
+    highest : DataFrame or None
+        From :func:`estimator.blending.highest_levels`.
+    diesel : Diesel
+        The diesel blended into.
+    figure : matplotlib Figure, optional
+        Usually :func:`estimator.report.blend_plots.blend_curves`.
+    levels : sequence of float, optional
+        Levels shown in the table (default: every level of ``wide``).
+    """
+    from estimator.blending import BLEND_METHODS, RULE_ERRORS
+    from estimator.cautions import CAUTION_SHORT
+
+    sections = []
+    intro = paragraph(
+        f"FAME blended into {diesel.name} ({diesel.source}). B = % FAME by volume. "
+        "Values are estimates with their stated errors. Each cell gives the highest blend "
+        "level meeting the target (the root of the continuous blend curve) and, in "
+        "brackets, the level with the stated error taken against the blend; a "
+        "specification's level is capped at the FAME content it allows. " + CAUTION_SHORT
+    )
+    body = intro
+    if highest is not None and len(highest):
+        body += table_html(_levels_matrix(highest))
+    sections.append(Section("Blend summary", body))
+    if figure is not None:
+        sections.append(Section("Blend curves", figure_html(
+            figure, alt="Blend properties against blend level with targets and limits",
+            caption="Each property against blend level; targets solid black, specification "
+                    "limits dashed (maximum) or dotted (minimum), bold over the FAME content "
+                    "the specification allows.")))
+    shown = wide if levels is None else wide[wide["level_pct_v"].isin(list(levels))]
+    table = pd.DataFrame({"sample": shown["sample"],
+                          "level": [f"B{v:g}" for v in shown["level_pct_v"]]})
+    decimals = {"density_15C_kg_m3": 1, "kin_viscosity_40C_mm2_s": 2, "cetane_number": 1,
+                "hhv_MJ_kg": 2, "lhv_MJ_kg": 2, "lhv_MJ_L": 2, "cloud_point_C": 1,
+                "cfpp_C": 1}
+    for prop, label in _SHORT.items():
+        table[label] = _pm_column(shown[prop], shown[f"{prop}_error"], decimals[prop])
+    sections.append(Section("Blend table", table_html(table)))
+    if highest is not None:
+        h = highest[["sample", "target", "highest_level_pct_v",
+                     "highest_level_with_error_pct_v", "how"]].rename(columns={
+                         "highest_level_pct_v": "highest B [% v/v]",
+                         "highest_level_with_error_pct_v": "with the error against it",
+                     })
+        sections.append(Section("Highest blend levels", table_html(h, digits=3)))
+    rows = []
+    for prop, methods in BLEND_METHODS.items():
+        kind, size = RULE_ERRORS[prop]
+        err = f"{100 * size:g} %" if kind == "relative" else f"{size:g}"
+        for i, m in enumerate(methods):
+            rows.append({"property": prop, "mixing rule": m, "default": i == 0,
+                         "rule error at B50": err})
+    sections.append(Section("Blend methods", paragraph(
+        "Component errors (the FAME's from its estimate, the diesel's from its description) "
+        "are propagated through each rule and added in quadrature to a mixing-rule error "
+        "that is zero at B0 and B100 and largest at B50. The ideal-solubility cloud point "
+        "tends to read low for blends (esters are less soluble in paraffinic diesel than "
+        "ideal); CFPP is linear by volume, an approximation with a wide error."
+    ) + table_html(pd.DataFrame(rows))))
+    return sections
+
+
+def _levels_matrix(highest: pd.DataFrame) -> pd.DataFrame:
+    """Samples x targets: 'B12.3 (B8.1)' per cell, 'none' where no level meets it."""
+    shown = highest[(highest["group"] == "target") | (highest["property"] == "all")]
+
+    def cell(a: float, b: float) -> str:
+        if np.isnan(a):
+            return "none"
+        return f"B{a:.1f} (" + ("none" if np.isnan(b) else f"B{b:.1f}") + ")"
+
+    frame = shown.assign(cell=[cell(a, b) for a, b in zip(
+        shown["highest_level_pct_v"], shown["highest_level_with_error_pct_v"])])
+    table = frame.pivot(index="sample", columns="target", values="cell")
+    table = table.reindex(index=list(dict.fromkeys(frame["sample"])),
+                          columns=list(dict.fromkeys(frame["target"])))
+    return table.reset_index()
+
+
+def mix_sections(result, *, figure=None) -> list[Section]:
+    """Sections for a least-cost mix: summary, shares, limits, verdicts, figure, diagnosis."""
+    from estimator.cautions import CAUTION_SHORT
+    from estimator.sourcing import assumptions
+
+    sections = []
+    if result.feasible:
+        head = (f"Least-cost mix: feedstock cost {result.cost_per_t_fuel:,.1f} per t of fuel "
+                f"({result.solver}). Shares are of the fuel's mass.")
+    else:
+        head = f"{result.message}."
+    sections.append(Section("Mix summary", paragraph(head + " " + CAUTION_SHORT)
+                            + (bullet_list(result.notes) if result.notes else "")))
+    if figure is not None:
+        sections.append(Section("Mix figure", figure_html(
+            figure, alt="Shares of each lot and headroom to each limit",
+            caption="Left: share of the fuel's mass per lot. Right: headroom to each limit "
+                    "in % of the limit; binding limits hatched, missed limits cross-hatched.")))
+    cols = [c for c in ("lot", "share_mass_pct", "oil_share_mass_pct", "cost_per_t_fuel",
+                        "fuel_t", "oil_t", "available_t", "valuation_note")
+            if c in result.lots.columns]
+    sections.append(Section("Lots and shares", table_html(result.lots[cols])))
+    c = result.constraints[["constraint", "value", "margin", "binding", "meets",
+                            "linear_form"]]
+    sections.append(Section("Limits on the mixed fuel", table_html(c)))
+    if result.verdicts is not None:
+        v = result.verdicts[["spec", "property", "estimate", "error", "limit", "verdict"]]
+        sections.append(Section("Verdicts with the stated errors",
+                                table_html(v, verdict_columns=["verdict"])))
+    if result.diagnosis is not None:
+        sections.append(Section("Why no mix meets the limits", table_html(result.diagnosis)))
+    comp = result.composition[result.composition > 0]
+    sections.append(Section("Profile of the mixed fuel", table_html(pd.DataFrame({
+        "species": comp.index, "wt %": np.round(comp.to_numpy(), 3)}))))
+    sections.append(Section("Valuation assumptions", table_html(assumptions())))
+    return sections
+
+
+def write_blend_report(path: str | Path, wide, highest, diesel, *, figure=None,
+                       levels=None) -> Path:
+    """Write a self-contained HTML report of a blend job."""
+    from estimator.report.html import build_report
+
+    return build_report("FAME blended into diesel", blend_sections(
+        wide, highest, diesel, figure=figure, levels=levels), path,
+        subtitle=f"diesel: {diesel.name}")
+
+
+def write_mix_report(path: str | Path, result, *, figure=None) -> Path:
+    """Write a self-contained HTML report of a least-cost mix."""
+    from estimator.report.html import build_report
+
+    return build_report("Least-cost mix of lots", mix_sections(result, figure=figure), path)

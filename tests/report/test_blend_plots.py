@@ -1,0 +1,97 @@
+"""Structure tests for estimator/report/blend_plots.py (axes, labels with units, legends)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+pytest.importorskip("matplotlib")
+
+from estimator import blending as b  # noqa: E402
+from estimator import mixing as m  # noqa: E402
+from estimator.profiles.io import read_profile  # noqa: E402
+from estimator.profiles.profile import Profile  # noqa: E402
+from estimator.report.blend_plots import BLEND_PANELS, blend_curves, mix_shares  # noqa: E402
+
+DEMO = Path(__file__).resolve().parents[2] / "data" / "demo"
+
+
+def _curves(oils=("rapeseed", "palm"), **target_options):
+    profile = Profile.from_oils(list(oils))
+    fame = b.fame_component(profile.wt_pct, profile.samples)
+    diesel = b.load_diesel(str(DEMO / "diesel_winter.json"))  # invented demo diesel
+    targets = b.blend_targets(**target_options)
+    wide = b.blend_wide(fame, diesel, np.linspace(0, 30, 31))
+    return wide, targets, b.highest_levels(fame, diesel, targets), diesel
+
+
+def _texts(fig) -> list[str]:
+    out = [t.get_text() for t in fig.texts]
+    for ax in fig.axes:
+        out += [t.get_text() for t in ax.texts]
+    return out
+
+
+def test_blend_curves_draw_one_panel_per_property_with_units_on_the_axes():
+    wide, targets, highest, diesel = _curves(climate_class="F")
+    fig = blend_curves(wide, targets=targets, diesel_name=diesel.name, highest=highest)
+    visible = [ax for ax in fig.axes if ax.get_visible()]
+    assert len(visible) == len(BLEND_PANELS)
+    for ax, (_, label, _) in zip(visible, BLEND_PANELS):
+        assert ax.get_title() == label
+        assert "[" in ax.get_ylabel() and "]" in ax.get_ylabel()
+    assert visible[-1].get_xlabel() == "blend level (FAME by volume) [% v/v]"
+    assert visible[0].get_xlim() == (0.0, 30.0)
+
+
+def test_blend_curves_legend_names_each_fame_the_target_and_the_spec_limits():
+    wide, targets, highest, diesel = _curves(climate_class="F")
+    fig = blend_curves(wide, targets=targets, diesel_name=diesel.name, highest=highest)
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
+    assert "FAME rapeseed" in labels and "FAME palm" in labels
+    assert "your target (solid black)" in labels
+    assert "EN 590 max (bold over B0-B7)" in labels
+    assert "ASTM D7467 min (bold over B6-B20)" in labels
+    assert "highest level meeting the target" in labels
+    assert "target -20" in _texts(fig)
+
+
+def test_blend_curves_mark_the_highest_level_meeting_the_target():
+    wide, targets, highest, diesel = _curves(max_cfpp_C=-20, specs=())
+    fig = blend_curves(wide, targets=targets, diesel_name=diesel.name, highest=highest)
+    cfpp_ax = [ax for ax in fig.axes if ax.get_title() == "CFPP"][0]
+    palm = highest[(highest["sample"] == "palm") & (highest["group"] == "target")]
+    level = float(palm["highest_level_pct_v"].iloc[0])
+    marks = [ln for ln in cfpp_ax.lines if ln.get_linestyle() == "None"]
+    assert any(np.isclose(ln.get_xdata()[0], level) for ln in marks)
+
+
+def test_blend_curves_shade_the_error_band_for_few_samples_only():
+    wide, targets, _, diesel = _curves()
+    few = blend_curves(wide, targets=targets, diesel_name=diesel.name)
+    many = blend_curves(wide, targets=targets, diesel_name=diesel.name, bands=False)
+    assert len(few.axes[0].collections) > len(many.axes[0].collections)
+
+
+def test_mix_shares_shows_every_lot_and_every_limit():
+    lots = read_profile(DEMO / "lots.csv", basis="fatty-acid")
+    result = m.least_cost_mix(lots, m.mix_constraints("en14214", max_cfpp_C=-5), demand_t=1500)
+    fig = mix_shares(result)
+    left, right = fig.axes
+    assert [t.get_text() for t in left.get_yticklabels()] == list(result.lots["lot"])
+    assert [t.get_text() for t in right.get_yticklabels()] == list(result.constraints["constraint"])
+    assert left.get_xlabel() == "share of the fuel [% by mass]"
+    assert right.get_xlabel() == "headroom to the limit [% of the limit]"
+    assert "mix -5  (binding)" in _texts(fig)
+    assert fig._suptitle.get_text().startswith("Least-cost mix: ")
+
+
+def test_mix_shares_marks_missed_limits_of_an_infeasible_case():
+    lots = read_profile(DEMO / "lots.csv", basis="fatty-acid")
+    result = m.least_cost_mix(lots, m.mix_constraints("en14214", max_cfpp_C=-15))
+    fig = mix_shares(result)
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
+    assert "missed" in labels
+    assert fig._suptitle.get_text() == "No mix meets every limit: least-violating mix"

@@ -1,0 +1,179 @@
+"""CLI tests of the blend and mix commands (estimator/cli_blend.py), via click's CliRunner."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+from estimator.cautions import CAUTION_SHORT
+from estimator.cli_blend import blend, mix
+
+DEMO = Path(__file__).resolve().parents[1] / "data" / "demo"
+LOTS = str(DEMO / "lots.csv")  # invented demo lots
+WINTER = str(DEMO / "diesel_winter.json")  # invented demo diesel
+
+
+def run(command, *args):
+    return CliRunner().invoke(command, [str(a) for a in args])
+
+
+def test_blend_prints_a_table_per_fame_and_the_highest_levels():
+    result = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter", "--levels", "0,7,20",
+                 "--max-cfpp", "-12")
+    assert result.exit_code == 0, result.output
+    out = result.output
+    assert "FAME rapeseed in diesel en590-winter (B = % FAME by volume)" in out
+    assert "cloud point [°C]" in out and "  ± error" in out
+    assert "rapeseed: highest blend level meeting CFPP <= -12 °C: B" in out
+    assert "rapeseed: highest blend level meeting EN 590 (all its limits): B7.0" in out
+    assert out.rstrip().endswith(CAUTION_SHORT)
+
+
+def test_blend_writes_csv_with_caution_and_a_levels_sibling(tmp_path):
+    out = tmp_path / "blend.csv"
+    result = run(blend, LOTS, "--basis", "fatty-acid", "--diesel", WINTER, "--climate-class",
+                 "F", "-o", out)
+    assert result.exit_code == 0, result.output
+    table = pd.read_csv(out)
+    assert list(table.columns[:4]) == ["sample", "level_pct_v", "fame_wt_pct",
+                                       "density_15C_kg_m3"]
+    assert "cfpp_C_error" in table and (table["caution"] == CAUTION_SHORT).all()
+    assert len(table) == 7 * 9  # seven invented lots, nine default levels
+    levels = pd.read_csv(tmp_path / "blend_levels.csv")
+    assert {"highest_level_pct_v", "highest_level_with_error_pct_v"} <= set(levels.columns)
+    assert "highest blend level meeting CFPP <= -20 °C" in result.output
+
+
+def test_blend_all_methods_writes_the_long_table_to_xlsx(tmp_path):
+    out = tmp_path / "blend.xlsx"
+    result = run(blend, "--oil", "palm", "--diesel", "en590-summer", "--methods", "all",
+                 "-o", out)
+    assert result.exit_code == 0, result.output
+    sheets = pd.read_excel(out, sheet_name=None)
+    assert set(sheets) == {"table", "levels", "cautions"}
+    assert {"ideal-solubility", "kay-volume", "cloud-gap"} <= set(sheets["table"]["method"])
+
+
+def test_blend_plot_and_report_are_written(tmp_path):
+    result = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter", "--plot",
+                 tmp_path / "b.png", "--report", tmp_path / "b.html")
+    assert result.exit_code == 0, result.output
+    assert (tmp_path / "b.png").read_bytes()[:4] == b"\x89PNG"
+    page = (tmp_path / "b.html").read_text(encoding="utf-8")
+    assert "Highest blend levels" in page and "Estimates, not certification" in page
+
+
+@pytest.mark.parametrize("args, message", [
+    (["--levels", "0,150"], "fame-estimator: error: --levels: 150 is outside 0-100 % v/v\n"),
+    (["--max-cfpp", "-10", "--climate-class", "F"],
+     "fame-estimator: error: --max-cfpp -10 contradicts --climate-class F (EN 590 cfpp_C max "
+     "-20 °C); give one\n"),
+    (["--spec", "en14214"], "fame-estimator: error: unknown blend specification 'en14214'; "
+                            "blend specifications: en590, astm-d7467\n"),
+])
+def test_blend_bad_usage_is_one_line_and_exit_2(args, message):
+    result = CliRunner().invoke(blend, ["--oil", "rapeseed", "--diesel", "en590-winter", *args])
+    assert result.exit_code == 2
+    assert result.output == message
+
+
+def test_blend_unknown_diesel_lists_the_builtins():
+    result = run(blend, "--oil", "rapeseed", "--diesel", "polar")
+    assert result.exit_code == 2
+    assert result.output == ("fame-estimator: error: unknown diesel 'polar'; use a built-in name "
+                             "(en590-summer, en590-winter) or a .json/.csv file\n")
+
+
+def test_blend_diesel_file_missing_a_property_says_which(tmp_path):
+    path = tmp_path / "depot.json"
+    values = json.loads(Path(WINTER).read_text())
+    del values["cloud_point_C"]
+    path.write_text(json.dumps(values))
+    result = run(blend, "--oil", "rapeseed", "--diesel", path)
+    assert result.exit_code == 1
+    assert result.output.startswith("fame-estimator: error: depot.json: diesel description "
+                                    "lacks 'cloud_point_C' [°C]; it needs ")
+    assert result.output.count("\n") == 1
+
+
+def test_blend_help_shows_examples():
+    result = run(blend, "--help")
+    assert result.exit_code == 0 and "Examples:" in result.output
+    assert "fame-estimator blend --oil rapeseed --diesel en590-winter --max-cfpp -15" in \
+        result.output
+
+
+def test_mix_prints_shares_cost_limits_and_verdict():
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500")
+    assert result.exit_code == 0, result.output
+    out = result.output
+    assert "Least-cost mix (shares of the fuel's mass" in out
+    assert "feedstock cost of the mixed fuel: 930.8 per t of fuel (linprog (HiGHS))" in out
+    assert "oxidation stability >= 8 h" in out and "binding" in out
+    assert "verdict with the stated errors: en14214 " in out
+    assert out.rstrip().endswith(CAUTION_SHORT)
+
+
+def test_mix_writes_lot_shares_and_sheets_of_properties_and_verdicts(tmp_path):
+    out = tmp_path / "mix.xlsx"
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500",
+                 "-o", out)
+    assert result.exit_code == 0, result.output
+    sheets = pd.read_excel(out, sheet_name=None)
+    assert set(sheets) == {"table", "properties", "limits", "profile", "cautions"}
+    table = sheets["table"]
+    assert list(table.columns[:2]) == ["lot", "share_mass_pct"]
+    assert table["share_mass_pct"].sum() == pytest.approx(100.0)
+    assert {"oil_t", "fuel_t"} <= set(table.columns)
+    assert {"verdict", "limit"} <= set(sheets["properties"].columns)
+
+
+def test_mix_csv_writes_sibling_files_with_the_caution(tmp_path):
+    out = tmp_path / "mix.csv"
+    result = run(mix, LOTS, "--basis", "fatty-acid", "-o", out)
+    assert result.exit_code == 0, result.output
+    for name in ("mix.csv", "mix_properties.csv", "mix_limits.csv", "mix_profile.csv"):
+        frame = pd.read_csv(tmp_path / name)
+        assert (frame["caution"] == CAUTION_SHORT).all()
+
+
+def test_mix_infeasible_prints_the_report_and_exits_1():
+    result = CliRunner().invoke(mix, [LOTS, "--basis", "fatty-acid", "--max-cfpp", "-15"])
+    assert result.exit_code == 1
+    assert "No mix of the lots meets every limit. Least-violating mix:" in result.stdout
+    assert "CFPP <= -15 °C" in result.stdout
+    assert result.stderr.startswith("fame-estimator: no mix of the lots meets en14214: "
+                                    "least-violating mix: CFPP <= -15 °C missed by ")
+
+
+def test_mix_bad_method_override_lists_valid_methods():
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--method", "cetane_number=best")
+    assert result.exit_code == 2
+    assert result.output == (
+        "fame-estimator: error: unknown method 'best' for cetane_number; valid methods: "
+        "krisnangkura1986, bamgboye2008, klopfenstein1985, ramirezverduzco2012\n")
+
+
+def test_mix_bad_demand_is_refused():
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--demand-t", "-5")
+    assert result.exit_code == 2
+    assert result.output == ("fame-estimator: error: --demand-t must be a positive number of "
+                             "tonnes, got -5\n")
+
+
+def test_mix_help_shows_examples():
+    result = run(mix, "--help")
+    assert result.exit_code == 0 and "Examples:" in result.output
+
+
+def test_mix_report_is_a_self_contained_page_with_the_caution(tmp_path):
+    page = tmp_path / "mix.html"
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--report", page)
+    assert result.exit_code == 0, result.output
+    text = page.read_text(encoding="utf-8")
+    assert "Least-cost mix of lots" in text and "Limits on the mixed fuel" in text
+    assert "data:image/png;base64," in text and CAUTION_SHORT in text
