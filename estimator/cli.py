@@ -232,9 +232,11 @@ def _format_plain(frame) -> str:
 
 def _register() -> None:
     """Add the job commands that live in their own modules."""
+    from estimator.cli_blend import blend, mix
     from estimator.cli_compare import check, compare
+    from estimator.cli_fit import fit
 
-    for command in (check, compare):
+    for command in (check, compare, blend, mix, fit):
         cli.add_command(command)
 
 

@@ -79,10 +79,12 @@ def predict(
     long = estimate(profile.wt_pct, profile.samples, methods=methods,
                     temperatures_C=temperatures_C)
     if models:
-        from estimator.refit.apply import apply_models
+        from estimator.refit.apply import apply_models, wide_with_models
 
         long = apply_models(profile, list(models), long)
-    table = wide(long)
+        table = wide_with_models(long)
+    else:
+        table = wide(long)
     flags = table.pop("flags")
     desc = descriptor_table(profile).drop(columns="sample")
     desc = desc.drop(columns=[c for c in desc.columns if c in table.columns])

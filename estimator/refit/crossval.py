@@ -1,0 +1,499 @@
+"""Compare the candidates by cross-validation on a lab's own samples and pick one.
+
+The scheme (fixed seed, so a refit is repeatable):
+
+* fewer than :data:`LOO_BELOW` samples: leave-one-out;
+* otherwise: 5-fold cross-validation repeated 10 times (scikit-learn
+  ``RepeatedKFold``), each repeat a fresh shuffle.
+
+Every candidate is fitted inside each fold only on the fold's training samples
+(recalibration, scaling, ridge's inner choice of alpha, the Gaussian-process
+hyperparameters), and scored on the held-out samples. Scores, with residual =
+predicted - measured, computed per repeat on the held-out predictions and averaged
+over the repeats:
+
+* RMSE = sqrt(mean(residual^2)); MAE = mean |residual|; bias = mean residual;
+* R^2 = 1 - sum(residual^2) / sum((measured - mean measured)^2).
+
+The choice: the lowest cross-validated RMSE wins, except that any candidate within
+:data:`TIE_TOLERANCE` (2 %) of the best RMSE ties with it, and a tie goes to the
+simpler one (the complexity order of :mod:`estimator.refit.candidates`: published,
+recalibrated, PLS, ridge, Gaussian process).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from estimator.errors import InputFileError, UnknownNameError, UsageError
+from estimator.profiles.profile import Profile
+from estimator.refit.candidates import (
+    GP_INTERVAL_Z,
+    Candidate,
+    candidates_for,
+    predict_params,
+    single_threaded_blas,
+)
+from estimator.refit.features import TrainingDomain, compute_features, published_estimates
+from estimator.refit.model_file import FittedModel
+
+__all__ = [
+    "INDICATOR_PROPERTIES",
+    "LOO_BELOW",
+    "MIN_SAMPLES",
+    "TIE_TOLERANCE",
+    "CVResult",
+    "CVScheme",
+    "PropertyFit",
+    "check_property",
+    "choose",
+    "cross_validate",
+    "cv_scheme",
+    "fit_properties",
+    "fit_property",
+    "measured_values",
+    "scores",
+]
+
+#: Below this many samples leave-one-out, from it on 5-fold x 10 repeats.
+LOO_BELOW = 30
+#: Folds and repeats of the repeated k-fold scheme.
+N_FOLDS = 5
+N_REPEATS = 10
+#: Fewest measured samples a refit accepts (every candidate needs at least a handful of
+#: training samples in each fold, and fewer make the comparison meaningless).
+MIN_SAMPLES = 10
+#: Candidates within this fraction of the best cross-validated RMSE tie with it.
+TIE_TOLERANCE = 0.02
+#: Registry properties that are ranking indices, not measured quantities.
+INDICATOR_PROPERTIES = ("oxidizability_indicator_wt_pct",)
+
+Progress = Callable[[int], None]
+
+
+@dataclass(frozen=True)
+class CVScheme:
+    """The held-out splits: ``repeats[r]`` is a partition of the samples into folds."""
+
+    name: str
+    seed: int
+    repeats: tuple[tuple[tuple[np.ndarray, np.ndarray], ...], ...]
+
+    @property
+    def n_splits(self) -> int:
+        """Number of fits per candidate."""
+        return sum(len(r) for r in self.repeats)
+
+    def describe(self) -> dict:
+        """JSON-ready description of the scheme."""
+        return {"name": self.name, "seed": self.seed, "repeats": len(self.repeats),
+                "folds": len(self.repeats[0])}
+
+
+SCHEMES = ("auto", "leave-one-out", "repeated-kfold")
+
+
+def cv_scheme(n_samples: int, *, seed: int = 0, scheme: str = "auto") -> CVScheme:
+    """Leave-one-out below :data:`LOO_BELOW` samples, else 5-fold x 10 repeats.
+
+    ``scheme`` forces one of them (``"leave-one-out"`` or ``"repeated-kfold"``).
+
+    Examples
+    --------
+    >>> cv_scheme(12).name, cv_scheme(12).n_splits
+    ('leave-one-out', 12)
+    >>> cv_scheme(40).name, cv_scheme(40).n_splits
+    ('5-fold x 10 repeats', 50)
+    """
+    from sklearn.model_selection import LeaveOneOut, RepeatedKFold
+
+    if scheme not in SCHEMES:
+        raise UsageError(f"unknown cross-validation scheme {scheme!r}; use {', '.join(SCHEMES)}")
+    dummy = np.zeros((n_samples, 1))
+    loo = n_samples < LOO_BELOW if scheme == "auto" else scheme == "leave-one-out"
+    if loo:
+        folds = tuple((tr, te) for tr, te in LeaveOneOut().split(dummy))
+        return CVScheme("leave-one-out", seed, (folds,))
+    splitter = RepeatedKFold(n_splits=N_FOLDS, n_repeats=N_REPEATS, random_state=seed)
+    splits = list(splitter.split(dummy))
+    repeats = tuple(
+        tuple(splits[r * N_FOLDS:(r + 1) * N_FOLDS]) for r in range(N_REPEATS)
+    )
+    return CVScheme(f"{N_FOLDS}-fold x {N_REPEATS} repeats", seed, repeats)
+
+
+def scores(measured: np.ndarray, predicted: np.ndarray) -> dict[str, float]:
+    """RMSE, MAE, bias (predicted - measured) and R^2 of one set of predictions.
+
+    Examples
+    --------
+    >>> s = scores(np.array([1.0, 2.0, 3.0]), np.array([1.5, 2.0, 2.5]))
+    >>> round(s["rmse"], 4), s["mae"], s["bias"], s["r2"]
+    (0.4082, 0.3333333333333333, 0.0, 0.75)
+    """
+    y = np.asarray(measured, dtype=float)
+    r = np.asarray(predicted, dtype=float) - y
+    sst = float(((y - y.mean()) ** 2).sum())
+    return {
+        "rmse": float(np.sqrt(np.mean(r * r))),
+        "mae": float(np.mean(np.abs(r))),
+        "bias": float(np.mean(r)),
+        "r2": float(1.0 - (r * r).sum() / sst) if sst > 0 else float("nan"),
+    }
+
+
+@dataclass(frozen=True)
+class CVResult:
+    """Held-out predictions ``(n_repeats, n)`` of one candidate and their mean scores."""
+
+    candidate: Candidate
+    predictions: np.ndarray
+    rmse: float
+    mae: float
+    bias: float
+    r2: float
+    rmse_sd: float
+    notes: tuple[str, ...] = ()
+
+    @property
+    def heldout_mean(self) -> np.ndarray:
+        """Held-out prediction of each sample, averaged over the repeats."""
+        return self.predictions.mean(axis=0)
+
+
+def cross_validate(
+    candidate: Candidate,
+    x: np.ndarray,
+    y: np.ndarray,
+    scheme: CVScheme,
+    *,
+    progress: Progress | None = None,
+) -> CVResult:
+    """Fit ``candidate`` on each fold's training samples and predict its held-out ones."""
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    preds = np.full((len(scheme.repeats), len(y)), np.nan)
+    notes: set[str] = set()
+    for r, folds in enumerate(scheme.repeats):
+        for train, test in folds:
+            params, fold_notes = candidate.fit(x[train], y[train], seed=scheme.seed)
+            notes.update(fold_notes)
+            preds[r, test] = predict_params(candidate.kind, params, x[test])[0]
+        if progress is not None:
+            progress(len(folds))
+    per_repeat = [scores(y, p) for p in preds]
+    rmse = np.array([s["rmse"] for s in per_repeat])
+    return CVResult(
+        candidate, preds, float(rmse.mean()),
+        float(np.mean([s["mae"] for s in per_repeat])),
+        float(np.mean([s["bias"] for s in per_repeat])),
+        float(np.mean([s["r2"] for s in per_repeat])),
+        float(rmse.std()) if np.ptp(rmse) > 0 else 0.0, tuple(sorted(notes)),
+    )
+
+
+def choose(results: Sequence[CVResult], tolerance: float = TIE_TOLERANCE) -> CVResult:
+    """The best candidate by CV RMSE; within ``tolerance`` of it the simplest wins.
+
+    Examples
+    --------
+    >>> from estimator.refit.candidates import Candidate
+    >>> def res(name, rank, rmse):
+    ...     return CVResult(Candidate(name, "ridge", (), rank), np.zeros((1, 1)),
+    ...                     rmse, 0.0, 0.0, 0.0, 0.0)
+    >>> choose([res("simple", 0, 1.015), res("complex", 5, 1.0)]).candidate.name
+    'simple'
+    >>> choose([res("simple", 0, 1.03), res("complex", 5, 1.0)]).candidate.name
+    'complex'
+    """
+    if not results:
+        raise ValueError("no candidate was evaluated")
+    best = min(r.rmse for r in results)
+    tied = [r for r in results if r.rmse <= best * (1.0 + tolerance)]
+    return min(tied, key=lambda r: (r.candidate.complexity, r.rmse))
+
+
+@dataclass(frozen=True)
+class PropertyFit:
+    """Everything a refit of one property found: scores, held-out predictions, the choice."""
+
+    property: str
+    unit: str
+    samples: tuple[str, ...]
+    measured: np.ndarray
+    wt_pct: np.ndarray
+    scheme: CVScheme
+    results: tuple[CVResult, ...]
+    chosen: CVResult
+    best_published: CVResult | None
+    statement: str
+    model: FittedModel
+    skipped: tuple[str, ...] = field(default=())
+
+    def score_table(self) -> pd.DataFrame:
+        """One row per candidate, best CV RMSE first, with the choice marked."""
+        rows = []
+        for r in sorted(self.results, key=lambda r: r.rmse):
+            rows.append({
+                "property": self.property,
+                "candidate": r.candidate.name,
+                "kind": r.candidate.kind,
+                "complexity": r.candidate.complexity,
+                "cv_rmse": r.rmse,
+                "cv_mae": r.mae,
+                "cv_bias": r.bias,
+                "cv_r2": r.r2,
+                "cv_rmse_sd": r.rmse_sd,
+                "chosen": r is self.chosen,
+                "note": "; ".join(r.notes),
+            })
+        return pd.DataFrame(rows)
+
+
+def measured_values(profile: Profile, property_name: str) -> np.ndarray:
+    """The measured column of a property from a profile's metadata, as floats (NaN = blank).
+
+    Raises InputFileError naming the file, row and column of a missing column or a
+    cell that is not a number.
+    """
+    label = profile.source or "input"
+    if property_name not in profile.metadata.columns:
+        present = [c for c in profile.metadata.columns if c in _properties()]
+        hint = f"; measured columns present: {', '.join(present)}" if present else ""
+        raise InputFileError(f"{label}: missing measured column {property_name!r}{hint}")
+    column = profile.metadata[property_name]
+    if pd.api.types.is_numeric_dtype(column) and not pd.api.types.is_bool_dtype(column):
+        return column.to_numpy(dtype=float)
+    text = column.map(lambda v: v.strip().replace(",", ".") if isinstance(v, str) else v)
+    parsed = pd.to_numeric(text.replace("", np.nan), errors="coerce")
+    bad = parsed.isna() & column.notna() & (text != "")
+    if bad.any():
+        i = int(np.argmax(bad.to_numpy()))
+        raise InputFileError(
+            f"{label}: row {profile.rows.iloc[i]}, column {property_name!r}: "
+            f"{column.iloc[i]!r} is not a number"
+        )
+    return parsed.to_numpy(dtype=float)
+
+
+def _properties() -> dict[str, str]:
+    from estimator.properties.methods import PROPERTIES
+
+    return PROPERTIES
+
+
+def check_property(property_name: str) -> tuple[str, list[str]]:
+    """Unit and published methods of a property a refit accepts; raise for a bad name."""
+    from estimator.properties.methods import PROPERTIES, methods_for
+
+    if property_name in INDICATOR_PROPERTIES:
+        raise UsageError(
+            f"--property {property_name}: a ranking indicator, not a measured quantity; "
+            "fit a measured property such as oxidation_stability_110C_h"
+        )
+    if property_name not in PROPERTIES:
+        valid = [p for p in PROPERTIES if p not in INDICATOR_PROPERTIES]
+        raise UnknownNameError(
+            f"unknown property {property_name!r}; valid properties: {', '.join(valid)}"
+        )
+    # Temperature-dependent methods are taken at the property's own temperature.
+    return PROPERTIES[property_name], list(methods_for(property_name))
+
+
+def fit_property(
+    profile: Profile,
+    property_name: str,
+    *,
+    seed: int = 0,
+    tolerance: float = TIE_TOLERANCE,
+    min_samples: int = MIN_SAMPLES,
+    kinds: Sequence[str] | None = None,
+    scheme: str = "auto",
+    progress: Progress | None = None,
+) -> PropertyFit:
+    """Cross-validate every candidate for one measured property and fit the chosen one.
+
+    Parameters
+    ----------
+    profile : Profile
+        Lab samples; the measured values are the metadata column named as the property
+        (blank cells: that sample is left out of this property's fit).
+    property_name : str
+        A property of the method registry, e.g. ``cetane_number`` or ``cfpp_C``.
+    seed : int
+        Seed of the repeated k-fold shuffles and the Gaussian-process optimizer.
+    tolerance : float
+        Tie tolerance on the CV RMSE (fraction; 0.02 = 2 %).
+    min_samples : int
+        Fewest measured samples accepted.
+    kinds : sequence of str, optional
+        Restrict the candidates to these kinds (default: all).
+    scheme : {'auto', 'leave-one-out', 'repeated-kfold'}
+        Cross-validation scheme; ``auto`` picks by the number of samples.
+    progress : callable, optional
+        Called with the number of fold fits just done (for a progress bar).
+    """
+    unit, methods = check_property(property_name)
+    label = profile.source or "input"
+    y_all = measured_values(profile, property_name)
+    mask = np.isfinite(y_all)
+    n = int(mask.sum())
+    if n < min_samples:
+        raise InputFileError(
+            f"{label}: only {n} samples have a measured {property_name}; a refit needs at "
+            f"least {min_samples} (add measured samples)"
+        )
+    y = y_all[mask]
+    if np.ptp(y) == 0:
+        raise InputFileError(
+            f"{label}: column {property_name!r} has the same value ({y[0]:g}) in all {n} "
+            "measured samples; a refit needs measurements that vary"
+        )
+    wt = profile.wt_pct[mask]
+    samples = tuple(np.asarray(profile.samples, dtype=object)[mask])
+    estimates = _published(wt, property_name, methods)
+    candidates = candidates_for(property_name, methods)
+    if kinds is not None:
+        candidates = [c for c in candidates if c.kind in kinds]
+    splits = cv_scheme(n, seed=seed, scheme=scheme)
+    with single_threaded_blas():
+        results, skipped, matrices = _evaluate(candidates, wt, y, estimates, samples, splits,
+                                               progress)
+        chosen = choose(results, tolerance)
+        params, notes = chosen.candidate.fit(matrices[chosen.candidate.name], y, seed=seed)
+    published = [r for r in results if r.candidate.kind == "published"]
+    best_pub = min(published, key=lambda r: r.rmse) if published else None
+    statement = _statement(chosen, best_pub, results, tolerance, n)
+    domain = TrainingDomain.from_training(wt)
+    model = FittedModel(
+        property=property_name,
+        unit=unit,
+        candidate=chosen.candidate.name,
+        kind=chosen.candidate.kind,
+        method=chosen.candidate.method,
+        features=chosen.candidate.features,
+        params=params,
+        domain=domain,
+        interval_half_width=float(GP_INTERVAL_Z * chosen.rmse),
+        n_samples=n,
+        cv={
+            "scheme": splits.describe(),
+            "tie_tolerance": tolerance,
+            "chosen": chosen.candidate.name,
+            "statement": statement,
+            "scores": [
+                {"candidate": r.candidate.name, "kind": r.candidate.kind,
+                 "complexity": r.candidate.complexity, "rmse": r.rmse, "mae": r.mae,
+                 "bias": r.bias, "r2": r.r2}
+                for r in results
+            ],
+        },
+        notes=tuple(notes),
+    )
+    return PropertyFit(
+        property_name, unit, samples, y, wt, splits, tuple(results), chosen, best_pub,
+        statement, model, tuple(skipped),
+    )
+
+
+def _evaluate(candidates, wt, y, estimates, samples, splits, progress):
+    """Cross-validate each candidate; skip those a published method cannot evaluate."""
+    results, skipped, matrices = [], [], {}
+    for cand in candidates:
+        x = compute_features(wt, cand.features, estimates=estimates)
+        if not np.isfinite(x).all():
+            i = int(np.argmax(~np.isfinite(x).all(axis=1)))
+            skipped.append(f"{cand.name}: no value for sample {samples[i]!r}")
+            if progress is not None:
+                progress(splits.n_splits)
+            continue
+        matrices[cand.name] = x
+        results.append(cross_validate(cand, x, y, splits, progress=progress))
+    return results, skipped, matrices
+
+
+def fit_properties(
+    profile: Profile,
+    properties: Sequence[str],
+    *,
+    seed: int = 0,
+    tolerance: float = TIE_TOLERANCE,
+    min_samples: int = MIN_SAMPLES,
+    scheme: str = "auto",
+    progress: Progress | None = None,
+) -> list[PropertyFit]:
+    """:func:`fit_property` for each property, in order (duplicates refused)."""
+    if not properties:
+        raise UsageError("give at least one --property to fit")
+    dup = [p for i, p in enumerate(properties) if p in properties[:i]]
+    if dup:
+        raise UsageError(f"--property {dup[0]} is given twice")
+    return [
+        fit_property(profile, p, seed=seed, tolerance=tolerance, min_samples=min_samples,
+                     scheme=scheme, progress=progress)
+        for p in properties
+    ]
+
+
+def total_fits(profile: Profile, properties: Sequence[str], scheme: str = "auto") -> int:
+    """How many fold fits :func:`fit_properties` will run (for a progress bar)."""
+    total = 0
+    for prop in properties:
+        try:
+            _, methods = check_property(prop)
+            n = int(np.isfinite(measured_values(profile, prop)).sum())
+        except (InputFileError, UsageError, UnknownNameError):
+            continue
+        if n < 2:
+            continue
+        loo = n < LOO_BELOW if scheme == "auto" else scheme == "leave-one-out"
+        n_splits = n if loo else N_FOLDS * N_REPEATS
+        total += n_splits * len(candidates_for(prop, methods))
+    return total
+
+
+def _published(wt: np.ndarray, prop: str, methods: Sequence[str]) -> dict[str, np.ndarray]:
+    from estimator.refit.features import estimate_feature
+
+    with np.errstate(all="ignore"):
+        return published_estimates(wt, [estimate_feature(prop, m) for m in methods])
+
+
+def _statement(
+    chosen: CVResult,
+    best_pub: CVResult | None,
+    results: Sequence[CVResult],
+    tolerance: float,
+    n: int,
+) -> str:
+    name = chosen.candidate.name
+    kind = chosen.candidate.kind
+    tie = f"ties within {tolerance:.0%} go to the simpler model"
+    if best_pub is None:
+        return (
+            f"No published method could be evaluated on all {n} samples; chosen {name} "
+            f"(CV RMSE {chosen.rmse:.3g}; {tie})."
+        )
+    pub = best_pub.candidate.method
+    if kind == "published":
+        return (
+            f"No model fitted on these {n} samples beats the published method {pub} "
+            f"(CV RMSE {chosen.rmse:.3g}); the model file records {chosen.candidate.method} "
+            f"as published ({tie})."
+        )
+    if kind == "recalibrated":
+        return (
+            f"No composition model beats the published method {chosen.candidate.method} "
+            f"recalibrated to this lab (a + b x estimate): CV RMSE {chosen.rmse:.3g} against "
+            f"{best_pub.rmse:.3g} for the best published method as is ({pub}); the model file "
+            f"records {chosen.candidate.method} recalibrated ({tie})."
+        )
+    gain = 100.0 * (1.0 - chosen.rmse / best_pub.rmse)
+    return (
+        f"{name} beats the best published method {pub}: CV RMSE {chosen.rmse:.3g} against "
+        f"{best_pub.rmse:.3g} ({gain:.0f} % lower; {tie})."
+    )

@@ -1,0 +1,198 @@
+"""``fame-estimator fit`` as a user meets it, and apply_models for ``predict --model``.
+
+The lab file is the invented demo set data/demo/lab_samples.csv (synthetic
+"measurements" from the laws stated in data/demo/LAB.md); the lots are the invented
+demo lots data/demo/lots.csv.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+from estimator.cautions import CAUTION_SHORT
+from estimator.cli_fit import fit
+from estimator.errors import ModelFileError, UsageError
+from estimator.profiles.io import read_profile
+from estimator.profiles.profile import Profile
+from estimator.properties.predict import LONG_COLUMNS, estimate
+from estimator.refit.apply import FIT_METHOD_PREFIX, apply_models, wide_with_models
+
+ROOT = Path(__file__).resolve().parents[1]
+LAB = ROOT / "data" / "demo" / "lab_samples.csv"
+LOTS = ROOT / "data" / "demo" / "lots.csv"
+
+
+def _cli():
+    """The real command group when the lead has registered ``fit``, else the same group class."""
+    from estimator.cli import _Group, cli
+
+    if "fit" in cli.commands:
+        return cli
+    group = _Group("fame-estimator")
+    group.add_command(fit)
+    return group
+
+
+def run(*args: str):
+    return CliRunner().invoke(_cli(), list(args))
+
+
+@pytest.fixture(scope="module")
+def model_path(tmp_path_factory):
+    out = tmp_path_factory.mktemp("fit") / "lab_model.json"
+    result = run("fit", str(LAB), "--property", "cfpp_C", "--property", "cetane_number",
+                 "-o", str(out))
+    assert result.exit_code == 0, result.output
+    return out
+
+
+def test_fit_prints_the_scores_the_choice_and_the_caution():
+    result = run("fit", str(LAB), "--property", "cfpp_C")
+    assert result.exit_code == 0, result.output
+    out = result.output
+    assert "cfpp_C [°C]: 25 samples, leave-one-out (seed 0)" in out  # 25 CFPP cells filled
+    assert "recalibrated:ramos2009" in out and "gp:descriptors" in out
+    assert "cfpp_C: No composition model beats the published method ramos2009 recalibrated" in out
+    assert CAUTION_SHORT in out
+    assert "cross-validating" not in out  # no progress bar when output is not a terminal
+
+
+def test_fit_writes_one_model_file_and_a_report_folder_beside_it(model_path):
+    doc = json.loads(model_path.read_text(encoding="utf-8"))
+    assert [m["property"] for m in doc["models"]] == ["cfpp_C", "cetane_number"]
+    assert doc["training"]["file"] == "lab_samples.csv" and doc["training"]["rows"] == 34
+    folder = model_path.parent / "lab_model_fit_report"
+    names = sorted(p.name for p in folder.iterdir())
+    assert "report.html" in names and "scores.csv" in names
+    assert "cfpp_C_parity.png" in names and "cetane_number_residuals.png" in names
+    html = (folder / "report.html").read_text(encoding="utf-8")
+    assert "CFPP (cfpp_C)" in html and "data:image/png;base64," in html
+    scores = pd.read_csv(folder / "scores.csv")
+    assert set(scores["property"]) == {"cfpp_C", "cetane_number"}
+    assert scores.groupby("property")["chosen"].sum().tolist() == [1, 1]
+
+
+def test_a_model_file_must_end_in_json(tmp_path):
+    result = run("fit", str(LAB), "--property", "cfpp_C", "-o", str(tmp_path / "m.csv"))
+    assert result.exit_code == 2
+    assert result.output.endswith("-o " + str(tmp_path / "m.csv") + ": a model file must end "
+                                  "in .json\n")
+
+
+def test_a_missing_measured_column_is_one_line_exit_1(tmp_path):
+    result = run("fit", str(LAB), "--property", "cloud_point_C")
+    assert result.exit_code == 1
+    assert result.output == ("fame-estimator: error: lab_samples.csv: missing column "
+                             "'cloud_point_C'\n")
+
+
+def test_a_non_numeric_measurement_is_one_line_exit_1(tmp_path):
+    bad = tmp_path / "lab.csv"
+    text = LAB.read_text(encoding="utf-8").splitlines()
+    head = text[0].split(",")
+    col = head.index("cetane_number")
+    row = text[3].split(",")
+    row[col] = "about 50"
+    text[3] = ",".join(row)
+    bad.write_text("\n".join(text) + "\n", encoding="utf-8")
+    result = run("fit", str(bad), "--property", "cetane_number")
+    assert result.exit_code == 1
+    assert result.output == ("fame-estimator: error: lab.csv: row 4, column 'cetane_number': "
+                             "'about 50' is not a number\n")
+
+
+def test_an_unknown_property_is_a_usage_error_listing_valid_ones():
+    result = run("fit", str(LAB), "--property", "cetane")
+    assert result.exit_code == 2
+    assert result.output.startswith("fame-estimator: error: unknown property 'cetane'; valid "
+                                    "properties: cetane_number, iodine_value_gI2_100g, cfpp_C")
+    assert result.output.count("\n") == 1
+
+
+def test_property_is_required():
+    result = run("fit", str(LAB))
+    assert result.exit_code == 2
+    assert "Missing option '--property'" in result.output
+
+
+def test_help_shows_examples():
+    result = run("fit", "--help")
+    assert result.exit_code == 0
+    assert "fame-estimator fit data/demo/lab_samples.csv --property cetane_number" in result.output
+
+
+# ------------------------------------------------------------ apply_models
+def lots_and_coconut():
+    return Profile.concat([read_profile(LOTS), Profile.from_oils(["coconut"])])
+
+
+def test_apply_models_adds_a_fit_method_per_fitted_property(model_path):
+    profile = lots_and_coconut()
+    long = estimate(profile.wt_pct, profile.samples)
+    out = apply_models(profile, [model_path], long)
+    assert list(out.columns) == list(LONG_COLUMNS)
+    assert len(out) == len(long) + 2 * len(profile)
+    fitted = out[out["method"].astype(str).str.startswith(FIT_METHOD_PREFIX)]
+    assert set(fitted["property"].astype(str)) == {"cfpp_C", "cetane_number"}
+    assert all("from model file lab_model.json" in n for n in fitted["note"].astype(str))
+    assert isinstance(out["method"].dtype, pd.CategoricalDtype)
+    assert len(long) == len(estimate(profile.wt_pct, profile.samples))  # input untouched
+
+
+def test_apply_models_values_and_intervals_are_the_model_files(model_path):
+    from estimator.refit.model_file import load_models
+
+    profile = lots_and_coconut()
+    out = apply_models(profile, [model_path], estimate(profile.wt_pct, profile.samples))
+    for model in load_models(model_path):
+        rows = out[(out["property"] == model.property)
+                   & (out["method"] == f"fit:{model.candidate}")]
+        pred = model.predict(profile.wt_pct)
+        np.testing.assert_array_equal(rows["value"].to_numpy(), pred.value)
+        np.testing.assert_array_equal(rows["error"].to_numpy(), pred.error)
+        np.testing.assert_array_equal(rows["in_domain"].to_numpy(), pred.in_domain)
+
+
+def test_coconut_is_flagged_outside_the_lab_training_domain(model_path):
+    # The demo lab saw C16-C18 oils and fats only (data/demo/LAB.md); coconut oil is
+    # lauric (typical profile in feedstocks.csv).
+    profile = lots_and_coconut()
+    out = apply_models(profile, [model_path], estimate(profile.wt_pct, profile.samples))
+    coco = out[(out["sample"] == "coconut") & out["method"].astype(str).str.startswith("fit:")]
+    assert not coco["in_domain"].any()
+    assert all("outside domain: C12:0" in n for n in coco["note"].astype(str))
+    rape = out[(out["sample"] == "LOT-R1") & out["method"].astype(str).str.startswith("fit:")]
+    assert rape["in_domain"].all()
+
+
+def test_the_wide_table_shows_the_fitted_model_instead_of_the_default(model_path):
+    profile = lots_and_coconut()
+    out = apply_models(profile, [model_path], estimate(profile.wt_pct, profile.samples))
+    table = wide_with_models(out)
+    fitted = out[(out["property"] == "cfpp_C")
+                 & out["method"].astype(str).str.startswith("fit:")]
+    np.testing.assert_array_equal(table["cfpp_C"].to_numpy(), fitted["value"].to_numpy())
+    assert "cfpp_C: outside fit:" in table.loc[table["sample"] == "coconut", "flags"].iloc[0]
+
+
+def test_one_property_in_two_model_files_is_refused(model_path, tmp_path):
+    copy = tmp_path / "again.json"
+    copy.write_bytes(model_path.read_bytes())
+    profile = lots_and_coconut()
+    with pytest.raises(ModelFileError) as err:
+        apply_models(profile, [model_path, copy], estimate(profile.wt_pct, profile.samples))
+    assert str(err.value) == ("again.json: cfpp_C also has a model in lab_model.json; give "
+                              "one --model file per property")
+
+
+def test_a_long_table_for_other_samples_is_refused(model_path):
+    profile = lots_and_coconut()
+    other = Profile.from_oils(["palm"])
+    with pytest.raises(UsageError, match="not for the samples of this profile"):
+        apply_models(profile, [model_path], estimate(other.wt_pct, other.samples))
