@@ -93,7 +93,7 @@ __all__ = [
     "load_diesel",
     "parse_levels",
     "read_diesel",
-    "summary_lines",
+    "summary_table",
 ]
 
 #: Properties a diesel description must give, with units.
@@ -879,34 +879,33 @@ def blend_targets(
     return targets
 
 
-def summary_lines(levels: pd.DataFrame) -> list[str]:
-    """Readable lines 'highest blend level meeting ...' from :func:`highest_levels`.
+def summary_table(levels: pd.DataFrame) -> pd.DataFrame:
+    """Samples x targets: the highest level meeting each, as ``B<level> (B<with error>)``.
 
-    One line per sample and user target, and one per sample and specification (all
-    of its limits together); the per-limit rows stay in the table.
+    The bracket is the highest level with the stated error taken against the blend
+    (the cautious answer); one column per user target and per specification (all of
+    its limits together, capped at the blend range the specification covers).
     """
-    lines = []
     shown = levels[(levels["group"] == "target") | (levels["property"] == "all")]
+    cells: dict[str, dict[str, str]] = {}
+    order: list[str] = []
     for row in shown.itertuples(index=False):
-        if row.group == "target":
-            what = row.target
+        what = row.target if row.group == "target" else _SPEC_NAMES.get(row.group, row.group)
+        if what not in order:
+            order.append(what)
+        level, cautious = row.highest_level_pct_v, row.highest_level_with_error_pct_v
+        if np.isnan(level):
+            text = "none"
         else:
-            what = f"{_SPEC_NAMES.get(row.group, row.group)} (all its limits)"
-        if np.isnan(row.highest_level_pct_v):
-            lines.append(f"{row.sample}: no blend level meets {what}: {row.how}")
-            continue
-        with_err = row.highest_level_with_error_pct_v
-        err = ("none with the stated error taken against it" if np.isnan(with_err)
-               else "only B0 with the stated error taken against it" if with_err == 0
-               else f"B{with_err:.1f} with the stated error taken against it")
-        if row.highest_level_pct_v == 0:
-            lines.append(f"{row.sample}: only B0 (the diesel alone) meets {what}: any FAME "
-                         "moves the blend past the limit")
-            continue
-        how = "" if row.group == "target" else f"; {row.how}"
-        lines.append(f"{row.sample}: highest blend level meeting {what}: "
-                     f"B{row.highest_level_pct_v:.1f} ({err}{how})")
-    return lines
+            text = f"B{level:.1f}"
+            if np.isnan(cautious):
+                text += " (none)"
+            elif abs(cautious - level) > 0.05:
+                text += f" (B{cautious:.1f})"
+        cells.setdefault(str(row.sample), {})[what] = text
+    table = pd.DataFrame.from_dict(cells, orient="index").reindex(columns=order)
+    table.insert(0, "sample", table.index)
+    return table.reset_index(drop=True).fillna("-")
 
 
 _SPEC_NAMES = {"en590": "EN 590", "astm-d7467": "ASTM D7467"}

@@ -174,7 +174,7 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     table = (blending.blend_table(fame, fuel, grid, methods="all") if methods == "all"
              else blending.blend_wide(fame, fuel, grid))
     highest = blending.highest_levels(fame, fuel, targets) if targets else None
-    summary = blending.summary_lines(highest) if highest is not None else []
+    summary = _summary_text(blending.summary_table(highest)) if highest is not None else ""
     footer = _blend_footer(fuel)
     if plot or report_path:
         from estimator.report.blend_plots import blend_curves
@@ -193,16 +193,25 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     if output:
         extra = {"levels": highest} if highest is not None else {}
         _write(table, output, footer=footer, extra=extra)
-        for line in summary:
-            click.echo(line)
+        if summary:
+            click.echo(summary)
         return
     wide = table if methods == "default" else blending.blend_wide(fame, fuel, grid)
     _print_blend(wide, fuel, fame)
     if summary:
-        click.echo("")
-        for line in summary:
-            click.echo(line)
+        click.echo("\n" + summary)
     click.echo("\n" + footer)
+
+
+def _summary_text(table) -> str:
+    from estimator.report.tables import format_table
+
+    return (
+        "Highest blend level (% v/v FAME) meeting each target; in brackets, the highest\n"
+        "level with the stated error taken against the blend (the cautious answer).\n"
+        "EN 590 allows at most B7; ASTM D7467 covers B6-B20.\n\n"
+        + format_table(table, transpose=False)
+    )
 
 
 def _blend_footer(fuel) -> str:

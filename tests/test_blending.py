@@ -421,8 +421,9 @@ def test_highest_level_for_a_specification_is_capped_at_its_fame_content():
     assert en590["how"] == "capped at the B7 the specification allows"
 
 
-def test_summary_lines_say_highest_blend_level_meeting():
+def test_summary_table_gives_the_highest_level_per_target_and_the_cautious_one():
     fame, diesel = _fame(_neat(cfpp_C=5.0)), _diesel(cfpp_C=-24.0)
-    lines = b.summary_lines(b.highest_levels(
+    table = b.summary_table(b.highest_levels(
         fame, diesel, [b.Target("cfpp_C", "max", -20.0, "CFPP <= -20 °C")]))
-    assert lines[0].startswith("F: highest blend level meeting CFPP <= -20 °C: B13.8 (")
+    assert list(table.columns) == ["sample", "CFPP <= -20 °C"]
+    assert table.loc[0, "CFPP <= -20 °C"].startswith("B13.8 (B")

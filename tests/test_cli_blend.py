@@ -28,8 +28,11 @@ def test_blend_prints_a_table_per_fame_and_the_highest_levels():
     out = result.output
     assert "FAME rapeseed in diesel en590-winter (B = % FAME by volume)" in out
     assert "cloud point [°C]" in out and "  ± error" in out
-    assert "rapeseed: highest blend level meeting CFPP <= -12 °C: B" in out
-    assert "rapeseed: highest blend level meeting EN 590 (all its limits): B7.0" in out
+    assert "Highest blend level (% v/v FAME) meeting each target" in out
+    row = next(line for line in out.splitlines() if line.startswith("rapeseed  "))
+    assert "B7.0" in row  # EN 590 allows at most B7 (standards.md 3.3)
+    header = next(line for line in out.splitlines() if line.startswith("sample  "))
+    assert "CFPP <= -12 °C" in header and "EN 590" in header
     assert out.rstrip().endswith(CAUTION_SHORT)
 
 
@@ -45,7 +48,7 @@ def test_blend_writes_csv_with_caution_and_a_levels_sibling(tmp_path):
     assert len(table) == 7 * 9  # seven invented lots, nine default levels
     levels = pd.read_csv(tmp_path / "blend_levels.csv")
     assert {"highest_level_pct_v", "highest_level_with_error_pct_v"} <= set(levels.columns)
-    assert "highest blend level meeting CFPP <= -20 °C" in result.output
+    assert "CFPP <= -20 °C" in result.output and "Highest blend level" in result.output
 
 
 def test_blend_all_methods_writes_the_long_table_to_xlsx(tmp_path):
