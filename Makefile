@@ -25,10 +25,10 @@ install-test: $(VENV)/.installed-test
 ## make demo: install, then run the main job on the invented demo scenario into out/demo/
 demo: install
 	@mkdir -p $(OUT)
+	$(BIN)/fame-estimator report $(DEMO)/scenario.json -o $(OUT)
 	$(BIN)/fame-estimator predict $(DEMO)/lots.csv --basis fatty-acid -o $(OUT)/estimates.xlsx
-	$(BIN)/fame-estimator compare $(DEMO)/lots.csv --basis fatty-acid --climate-class C -o $(OUT)
 	$(BIN)/fame-estimator compare $(DEMO)/lots.csv --basis fatty-acid --climate-class C
-	@echo "demo outputs are in $(OUT)/ (open $(OUT)/report.html)"
+	@echo "demo outputs are in $(OUT)/: open $(OUT)/report.html"
 
 lint: install-test
 	$(BIN)/ruff check estimator tests scripts

@@ -235,8 +235,9 @@ def _register() -> None:
     from estimator.cli_blend import blend, mix
     from estimator.cli_compare import check, compare
     from estimator.cli_fit import fit
+    from estimator.cli_report import report
 
-    for command in (check, compare, blend, mix, fit):
+    for command in (check, compare, blend, mix, fit, report):
         cli.add_command(command)
 
 

@@ -257,6 +257,16 @@ def summary_section(comparison) -> Section:
     else:
         items.append("No lot meets every specification checked on these estimates; the "
                      "ranking puts the least doubtful and cheapest first.")
+    v = comparison.verdicts
+    os_fails = v[(v["property"] == "oxidation_stability_110C_h") & (v["verdict"] == "fails")]
+    if len(os_fails):
+        lots = ", ".join(dict.fromkeys(os_fails["sample"].astype(str)))
+        items.append(
+            f"Oxidation stability fails for {lots}: the Rancimat estimate is for the esters "
+            "alone, without antioxidant. Producers commonly dose an antioxidant to reach "
+            "the limit (common practice); whether a dosed fuel passes is for the laboratory "
+            "test to show."
+        )
     return Section("Summary", bullet_list(items))
 
 
@@ -438,12 +448,20 @@ def comparison_sections(comparison, plots: Sequence | None = None) -> list[Secti
     ]
 
 
-def write_comparison(comparison, outdir: str | Path, *, plots: Sequence | None = None) -> dict:
+def write_comparison(
+    comparison,
+    outdir: str | Path,
+    *,
+    plots: Sequence | None = None,
+    extra_sections: Sequence[Section] = (),
+    title: str = "Offered lots compared",
+) -> dict:
     """Write the whole comparison into ``outdir``; return ``{what: path or [paths]}``.
 
     ``comparison.csv`` (ranked table), ``comparison.xlsx`` (ranked table plus sheets
     verdicts, valuation, assumptions, methods, limits, flags, cautions), each figure as
-    ``plots/<name>.png`` and ``.svg``, and the self-contained ``report.html``.
+    ``plots/<name>.png`` and ``.svg``, and the self-contained ``report.html``, with
+    ``extra_sections`` (e.g. blend, mix or refit sections) after the charts.
     """
     from estimator.cautions import CAUTION_SHORT
     from estimator.comparison import SPEC_LABELS
@@ -470,8 +488,11 @@ def write_comparison(comparison, outdir: str | Path, *, plots: Sequence | None =
     written["plots"] = [path for p in plots for path in save_figure(p.figure,
                                                                       outdir / "plots" / p.name)]
     specs_text = ", ".join(SPEC_LABELS.get(s, s) for s in comparison.specs)
+    sections = comparison_sections(comparison, plots)
+    # after the summary, ranking and charts; the detailed tables and the cautions follow
+    sections[3:3] = list(extra_sections)
     written["report"] = build_report(
-        "Offered lots compared", comparison_sections(comparison, plots),
+        title, sections,
         outdir / "report.html",
         subtitle=f"{len(comparison.ranked)} lots against {specs_text}"
         + (f", climate class {comparison.climate_class}" if comparison.climate_class else ""),

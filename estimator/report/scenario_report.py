@@ -1,0 +1,118 @@
+"""Write every file of a planning scenario and one report that holds all of it.
+
+The comparison's files (``comparison.csv``, ``comparison.xlsx``, ``plots/``) as
+``compare`` writes them; ``blend.xlsx`` and ``plots/blend_curves.png``;
+``mix.xlsx`` and ``plots/mix_shares.png``; the lab model ``lab_model.json`` with
+its fit report folder; ``estimates_with_lab_model.csv``; and ``report.html`` with
+the comparison, blend, mix and refit sections (the fit report is linked).
+"""
+
+from __future__ import annotations
+
+import html
+from pathlib import Path
+
+import pandas as pd
+
+from estimator.report.html import Section, bullet_list, paragraph, table_html
+
+__all__ = ["lab_section", "write_scenario"]
+
+
+def write_scenario(result, outdir: str | Path) -> dict:
+    """Write all outputs of a :class:`~estimator.scenario.ScenarioResult` into ``outdir``."""
+    from estimator.cautions import CAUTION
+    from estimator.report.html import write_comparison
+    from estimator.report.plots import save_figure
+    from estimator.report.tables import write_table
+
+    outdir = Path(outdir)
+    outdir.mkdir(parents=True, exist_ok=True)
+    written: dict = {}
+    extra: list[Section] = []
+    cautions = pd.DataFrame({"caution": [CAUTION]})
+    if result.blend is not None:
+        from estimator.report.blend_plots import blend_curves
+        from estimator.report.blend_sections import blend_sections
+
+        b = result.blend
+        fig = blend_curves(b["curve"], targets=b["targets"], diesel_name=b["diesel"].name,
+                           highest=b["highest"])
+        written["blend_plot"] = save_figure(fig, outdir / "plots" / "blend_curves")
+        sheets = {"cautions": cautions}
+        if b["highest"] is not None:
+            sheets = {"highest_levels": b["highest"], **sheets}
+        written["blend"] = write_table(b["wide"], outdir / "blend.xlsx", sheets=sheets,
+                                       sheet_name="blend")
+        extra += blend_sections(b["wide"], b["highest"], b["diesel"], figure=fig,
+                                levels=b["grid"])
+    if result.mix is not None:
+        from estimator.report.blend_plots import mix_shares
+        from estimator.report.blend_sections import mix_sections
+
+        m = result.mix
+        fig = mix_shares(m)
+        written["mix_plot"] = save_figure(fig, outdir / "plots" / "mix_shares")
+        main = m.lots if m.feasible else (m.diagnosis if m.diagnosis is not None
+                                          else m.constraints)
+        written["mix"] = write_table(main, outdir / "mix.xlsx", sheet_name="mix",
+                                     sheets={"limits": m.constraints, "cautions": cautions})
+        extra += mix_sections(m, figure=fig)
+    if result.fits:
+        extra.append(_write_lab(result, outdir, written))
+    written.update(write_comparison(result.comparison, outdir, extra_sections=extra,
+                                    title=result.scenario.title))
+    return written
+
+
+def _write_lab(result, outdir: Path, written: dict) -> Section:
+    from estimator.refit import file_provenance, save_models
+    from estimator.report.fit_sections import write_fit_report
+    from estimator.report.tables import write_table
+    from estimator.workflows import predict
+
+    lab = result.lab_profile
+    lab_path = result.scenario.resolve(result.scenario.lab["file"])
+    model_path = save_models(result.models, outdir / "lab_model.json",
+                             file_provenance(lab_path, len(lab)))
+    written["model"] = model_path
+    scores = pd.concat([f.score_table() for f in result.fits], ignore_index=True)
+    groups = None
+    if "feedstock" in lab.metadata.columns:
+        groups = dict(zip(lab.samples, lab.metadata["feedstock"].astype(str), strict=True))
+    folder = write_fit_report(result.fits, model_path, table=scores, groups=groups,
+                              source=lab_path.name)
+    written["fit_report"] = folder / "report.html"
+    with_model = predict(result.profile, models=[str(model_path)])
+    written["estimates_with_model"] = write_table(
+        with_model.wide, outdir / "estimates_with_lab_model.csv"
+    )
+    return lab_section(result, with_model.long, f"{folder.name}/report.html")
+
+
+def lab_section(result, long: pd.DataFrame, fit_report_href: str) -> Section:
+    """The refit summary: one statement per property, the lots by the lab's models, a link."""
+    fitted = long[long["method"].astype(str).str.startswith("fit:")].copy()
+    lots = pd.DataFrame({
+        "lot": fitted["sample"].astype(str),
+        "property": fitted["property"].astype(str),
+        "model": fitted["method"].astype(str).str.removeprefix("fit:"),
+        "estimate": fitted["value"],
+        "95 % interval ±": fitted["error"],
+        "inside the lab's training range": fitted["in_domain"].map({True: "yes", False: "NO"}),
+    })
+    lab = result.scenario.lab
+    body = paragraph(
+        f"The lab file {html.escape(str(lab['file']))} was used to refit "
+        f"{', '.join(html.escape(p) for p in lab['properties'])}, comparing every published "
+        "method (as is and recalibrated), ridge and PLS regressions and a Gaussian process "
+        "by cross-validation. What the comparison found:"
+    )
+    body += bullet_list(html.escape(f.statement) for f in result.fits)
+    body += (
+        f'<p>Scores, parity and residual plots: <a href="{html.escape(fit_report_href)}">the '
+        "fit report</a>. The offered lots estimated with the lab&#x27;s models (a lot outside "
+        "the range of the lab&#x27;s samples is an extrapolation; trust it less):</p>"
+    )
+    body += table_html(lots, digits=4)
+    return Section("Refit on the lab's own samples", body, id="refit")

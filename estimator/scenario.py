@@ -1,0 +1,210 @@
+"""A planning scenario: one JSON file naming the lots, the diesel, the targets and the lab data.
+
+The scenario file says what a season's planning needs, so that one command runs
+the buyer's comparison, the blender's curves and highest levels, the least-cost
+mix, and the refit on the lab's samples, and writes one report. Paths inside the
+file are relative to the file. Keys (all but ``lots`` optional)::
+
+    {
+      "title": "Winter tender",
+      "lots":  {"file": "lots.csv", "basis": "fatty-acid",
+                "specs": ["en14214", "astm-d6751"], "climate_class": "C",
+                "pretreat": "none", "methanol_ratio": 6},
+      "blend": {"diesel": "diesel_winter.json" or "en590-winter",
+                "levels": [0, 2, 5, 7, 10, 20, 30], "climate_class": "F",
+                "max_cfpp_C": null, "max_cloud_point_C": -8,
+                "specs": ["en590", "astm-d7467"]},
+      "mix":   {"spec": "en14214", "climate_class": null, "max_cfpp_C": -5,
+                "max_cloud_point_C": null, "demand_t": 1500, "available_column": "available_t"},
+      "lab":   {"file": "lab_samples.csv", "properties": ["cetane_number", "cfpp_C"],
+                "seed": 0}
+    }
+
+Nothing here prints or draws; :mod:`estimator.report.scenario_report` writes the files.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from estimator.errors import InputFileError, UsageError
+
+__all__ = ["Scenario", "ScenarioResult", "read_scenario", "run_scenario"]
+
+_KEYS = {
+    "": {"title", "lots", "blend", "mix", "lab"},
+    "lots": {"file", "basis", "specs", "climate_class", "pretreat", "methanol_ratio",
+             "sum_tolerance"},
+    "blend": {"diesel", "levels", "climate_class", "max_cfpp_C", "max_cloud_point_C", "specs"},
+    "mix": {"spec", "climate_class", "max_cfpp_C", "max_cloud_point_C", "demand_t",
+            "available_column", "pretreat"},
+    "lab": {"file", "properties", "seed", "basis"},
+}
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A validated scenario file: its folder and its four parts."""
+
+    path: Path
+    title: str
+    lots: dict[str, Any]
+    blend: dict[str, Any] | None = None
+    mix: dict[str, Any] | None = None
+    lab: dict[str, Any] | None = None
+
+    def resolve(self, name: str) -> Path:
+        """A path named in the scenario, relative to the scenario file."""
+        p = Path(name)
+        return p if p.is_absolute() else self.path.parent / p
+
+
+@dataclass
+class ScenarioResult:
+    """What :func:`run_scenario` computed, part by part (None where a part is absent)."""
+
+    scenario: Scenario
+    profile: Any
+    comparison: Any
+    blend: dict[str, Any] | None = None
+    mix: Any = None
+    fits: list = field(default_factory=list)
+    lab_profile: Any = None
+    models: list = field(default_factory=list)
+
+
+def read_scenario(path: str | Path) -> Scenario:
+    """Read and validate a scenario JSON file; unknown keys are an error listing known ones."""
+    path = Path(path)
+    label = path.name
+    if not path.exists():
+        raise InputFileError(f"{label}: no such file")
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputFileError(f"{label}: not valid JSON ({exc})") from None
+    if not isinstance(data, dict):
+        raise InputFileError(f"{label}: expected a JSON object with 'lots', 'blend', 'mix', 'lab'")
+    _check_keys(data, "", label)
+    if "lots" not in data or not isinstance(data["lots"], dict) or "file" not in data["lots"]:
+        raise InputFileError(f"{label}: 'lots' must be an object with at least a 'file'")
+    parts = {}
+    for part in ("lots", "blend", "mix", "lab"):
+        value = data.get(part)
+        if value is None:
+            parts[part] = None
+            continue
+        if not isinstance(value, dict):
+            raise InputFileError(f"{label}: '{part}' must be a JSON object")
+        _check_keys(value, part, label)
+        parts[part] = value
+    if parts["blend"] is not None and "diesel" not in parts["blend"]:
+        raise InputFileError(f"{label}: 'blend' needs a 'diesel' (a file or a built-in name)")
+    if parts["lab"] is not None and not parts["lab"].get("properties"):
+        raise InputFileError(f"{label}: 'lab' needs 'file' and a list of 'properties' to refit")
+    title = str(data.get("title") or path.stem)
+    return Scenario(path, title, parts["lots"], parts["blend"], parts["mix"], parts["lab"])
+
+
+def _check_keys(obj: dict, part: str, label: str) -> None:
+    unknown = sorted(set(obj) - _KEYS[part])
+    if unknown:
+        where = f"'{part}'" if part else "the top level"
+        raise UsageError(
+            f"{label}: unknown key {unknown[0]!r} in {where}; "
+            f"known: {', '.join(sorted(_KEYS[part]))}"
+        )
+
+
+def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
+    """Run every part of a scenario and return the results (no files written).
+
+    ``progress`` is an optional callable taking a short text, called before each part.
+    """
+    from estimator.comparison import compare_lots
+    from estimator.profiles.io import read_profile
+    from estimator.specs import normalise_climate_class
+
+    say = progress or (lambda text: None)
+    lots = scenario.lots
+    say("comparing the lots")
+    profile = read_profile(
+        scenario.resolve(lots["file"]), basis=lots.get("basis", "fame"),
+        sum_tolerance=float(lots.get("sum_tolerance", 2.0)),
+    )
+    comparison = compare_lots(
+        profile,
+        spec_names=tuple(lots.get("specs", ("en14214", "astm-d6751"))),
+        climate_class=normalise_climate_class(lots.get("climate_class")),
+        pretreat=lots.get("pretreat", "none"),
+        methanol_ratio=float(lots.get("methanol_ratio", 6.0)),
+    )
+    result = ScenarioResult(scenario, profile, comparison)
+    if scenario.blend is not None:
+        say("blending with diesel")
+        result.blend = _run_blend(scenario, profile)
+    if scenario.mix is not None:
+        say("finding the least-cost mix")
+        result.mix = _run_mix(scenario, profile)
+    if scenario.lab is not None:
+        say("refitting on the lab samples")
+        _run_lab(scenario, result)
+    return result
+
+
+def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
+    import numpy as np
+
+    from estimator import blending
+
+    spec = scenario.blend
+    diesel_name = spec["diesel"]
+    candidate = scenario.resolve(diesel_name)
+    fuel = blending.load_diesel(str(candidate) if candidate.exists() else diesel_name)
+    grid = blending.parse_levels(spec.get("levels", "0,2,5,7,10,20,30,50,100"))
+    targets = blending.blend_targets(
+        max_cfpp_C=spec.get("max_cfpp_C"), max_cloud_point_C=spec.get("max_cloud_point_C"),
+        climate_class=spec.get("climate_class"),
+        specs=list(spec.get("specs", ("en590", "astm-d7467"))),
+    )
+    fame = blending.fame_component(profile.wt_pct, profile.samples)
+    wide = blending.blend_wide(fame, fuel, grid)
+    highest = blending.highest_levels(fame, fuel, targets) if targets else None
+    top = float(grid.max()) if grid.max() > 0 else 100.0
+    curve = blending.blend_wide(fame, fuel, np.union1d(grid, np.linspace(0, top, 51)))
+    return {"diesel": fuel, "grid": grid, "targets": targets, "wide": wide, "highest": highest,
+            "curve": curve, "summary": blending.summary_table(highest) if targets else None}
+
+
+def _run_mix(scenario: Scenario, profile):
+    from estimator import mixing
+    from estimator.specs import normalise_climate_class
+
+    spec = scenario.mix
+    climate_class = normalise_climate_class(spec.get("climate_class"))
+    name = spec.get("spec", "en14214")
+    constraints = mixing.mix_constraints(
+        name, climate_class=climate_class, max_cfpp_C=spec.get("max_cfpp_C"),
+        max_cloud_point_C=spec.get("max_cloud_point_C"),
+    )
+    return mixing.least_cost_mix(
+        profile, constraints, demand_t=spec.get("demand_t"),
+        available_column=spec.get("available_column"), pretreat=spec.get("pretreat", "none"),
+        spec=name, climate_class=climate_class,
+    )
+
+
+def _run_lab(scenario: Scenario, result: ScenarioResult) -> None:
+    from estimator.profiles.io import read_profile
+    from estimator.refit import fit_properties
+
+    spec = scenario.lab
+    props = list(spec["properties"])
+    path = scenario.resolve(spec["file"])
+    lab = read_profile(path, basis=spec.get("basis", "fame"), extra_columns=tuple(props))
+    result.lab_profile = lab
+    result.fits = fit_properties(lab, props, seed=int(spec.get("seed", 0)))
+    result.models = [f.model for f in result.fits]
