@@ -22,6 +22,13 @@ Mixing rules (``BLEND_METHODS``; the first of each property is the default):
 - heating values per kg: mass-weighted; per litre (``lhv_MJ_L``): volume-weighted
   rho*LHV, the rule of standards.md 5 (DERIVED, standard mixing). Exact for
   energy, given the component values.
+- cloud point (``liquidus-or-linear``, the default): the higher of the
+  ``ideal-solubility`` cloud point below and the linear rule by volume
+  (``kay-volume``). Ideal solubility alone lets the FAME dilute the diesel's wax
+  and puts, e.g., a rapeseed FAME blend below the cloud points of both its
+  components, which would credit blending with a cold-flow improvement that real
+  blends do not show (at B1-B2 the blend clouds like the diesel: Moser 2014,
+  Fuel 115:500, from memory); the floor keeps winter planning on the safe side.
 - cloud point (``ideal-solubility``): the higher of two liquidus temperatures:
   each saturated methyl ester at its mole fraction in the *blend* (Schroeder-van
   Laar, :func:`estimator.properties.cold_flow.imahara2006`, the diesel treated as
@@ -37,9 +44,9 @@ Mixing rules (``BLEND_METHODS``; the first of each property is the default):
   empirical rule of common practice: linear by volume between the two CFPPs, with a
   wide stated error (:data:`RULE_ERRORS`). It never puts a blend beyond its
   components, which keeps winter planning on the safe side. ``cloud-gap`` (ours)
-  keeps the blend below its ideal-solubility cloud point by the volume-weighted
-  CP - CFPP gap of the components; it inherits the dilution depression of the
-  ideal model and can put a blend below both components, so it is not the default.
+  keeps the blend below its default cloud point by the volume-weighted CP - CFPP
+  gap of the components; the gap is not additive in practice and can put a blend
+  below both components, so it is not the default.
 
 The ideal-solubility cloud point is a lower bound in tendency: methyl esters are
 polar and less soluble in paraffinic diesel than ideal, so real blends cloud at or
@@ -137,7 +144,7 @@ BLEND_METHODS = {
     "hhv_MJ_kg": ("mass-weighted",),
     "lhv_MJ_kg": ("mass-weighted",),
     "lhv_MJ_L": ("volume-weighted",),
-    "cloud_point_C": ("ideal-solubility", "kay-volume"),
+    "cloud_point_C": ("liquidus-or-linear", "ideal-solubility", "kay-volume"),
     "cfpp_C": ("linear-volume", "cloud-gap"),
 }
 #: Mixing-rule error at B50 (zero at B0/B100), added in quadrature to the propagated
@@ -163,6 +170,8 @@ _NOTES = {
                  "volume-weighted CP-CFPP gap",
     "ideal-solubility": "ideal solubility of the saturated esters in the blend and of the "
                         "diesel's wax; anchored to both neat cloud points",
+    "liquidus-or-linear": "the higher of the ideal-solubility liquidus and the linear rule "
+                          "by volume: dilution of the diesel's wax is not credited",
 }
 
 
@@ -510,10 +519,17 @@ def blend_arrays(
         lhv_l = rho * lhv / 1000.0
         out["lhv_MJ_L", "volume-weighted"] = lhv_l, lhv_l * _rss(rho_err / rho, lhv_err / lhv)
     if want("cloud_point_C") or (every and want("cfpp_C")):
-        cp, cp_err = _cloud_ideal(fame, diesel, x, phi, rule)
-        out["cloud_point_C", "ideal-solubility"] = cp, cp_err
+        cp_ideal, cp_ideal_err = _cloud_ideal(fame, diesel, x, phi, rule)
+        cp_kay, cp_kay_err = linear("cloud_point_C", phi)
+        # Conservative default: ideal solubility lets the FAME dilute the diesel's wax and
+        # put a blend below both neat cloud points; the linear rule floors it there.
+        kay_controls = ~(cp_ideal >= cp_kay)
+        cp = np.where(kay_controls, cp_kay, cp_ideal)
+        cp_err = np.where(kay_controls, cp_kay_err, cp_ideal_err)
+        out["cloud_point_C", "liquidus-or-linear"] = cp, cp_err
         if every:
-            out["cloud_point_C", "kay-volume"] = linear("cloud_point_C", phi)
+            out["cloud_point_C", "ideal-solubility"] = cp_ideal, cp_ideal_err
+            out["cloud_point_C", "kay-volume"] = cp_kay, cp_kay_err
     if want("cfpp_C"):
         out["cfpp_C", "linear-volume"] = linear("cfpp_C", phi)
         if every:

@@ -217,9 +217,9 @@ def _summary_text(table) -> str:
 def _blend_footer(fuel) -> str:
     from estimator.cautions import CAUTION_SHORT
 
-    return (f"diesel: {fuel.name} ({fuel.source}). Cloud point by ideal solubility (tends to "
-            "read low for blends: see the error); CFPP linear by volume, wide error.\n"
-            + CAUTION_SHORT)
+    return (f"diesel: {fuel.name} ({fuel.source}). Cloud point: the higher of the "
+            "saturated-ester liquidus (ideal solubility) and the linear rule by volume; CFPP "
+            "linear by volume; both with wide stated errors.\n" + CAUTION_SHORT)
 
 
 #: Terminal rows of the blend table: property, short label, decimals.

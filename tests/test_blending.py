@@ -427,3 +427,22 @@ def test_summary_table_gives_the_highest_level_per_target_and_the_cautious_one()
         fame, diesel, [b.Target("cfpp_C", "max", -20.0, "CFPP <= -20 °C")]))
     assert list(table.columns) == ["sample", "CFPP <= -20 °C"]
     assert table.loc[0, "CFPP <= -20 °C"].startswith("B13.8 (B")
+
+
+@pytest.mark.parametrize("oil", ["rapeseed", "soybean", "palm", "beef-tallow", "coconut"])
+def test_default_blend_cloud_point_never_credits_dilution_of_the_diesel_wax(oil):
+    # Moser 2014, Fuel 115:500 (from memory): at B1-B2 a blend clouds like its diesel,
+    # whatever the FAME; the default rule is floored at the linear rule by volume
+    # (Benjumea et al. 2008, Fuel 87:2069), so no blend reads below both components.
+    from estimator.profiles.profile import Profile
+
+    p = Profile.from_oils([oil])
+    fame = b.fame_component(p.wt_pct, p.samples)
+    diesel = b.load_diesel("en590-winter")
+    levels = np.linspace(0, 100, 41)
+    wide = b.blend_wide(fame, diesel, levels)
+    cp = wide["cloud_point_C"].to_numpy()
+    cp_f, cp_d = cp[-1], cp[0]
+    linear = (levels / 100) * cp_f + (1 - levels / 100) * cp_d  # volume fractions
+    assert (cp >= linear - 1e-9).all()
+    assert (cp >= min(cp_f, cp_d) - 1e-9).all()

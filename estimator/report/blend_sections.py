@@ -109,9 +109,11 @@ def blend_sections(
     sections.append(Section("Blend methods", paragraph(
         "Component errors (the FAME's from its estimate, the diesel's from its description) "
         "are propagated through each rule and added in quadrature to a mixing-rule error "
-        "that is zero at B0 and B100 and largest at B50. The ideal-solubility cloud point "
-        "tends to read low for blends (esters are less soluble in paraffinic diesel than "
-        "ideal); CFPP is linear by volume, an approximation with a wide error."
+        "that is zero at B0 and B100 and largest at B50. The default cloud point is the "
+        "higher of the saturated esters' ideal-solubility liquidus and the linear rule by "
+        "volume: ideal solubility alone would credit the FAME with diluting the diesel's "
+        "wax, a cold-flow gain real blends do not show. CFPP is linear by volume, an "
+        "approximation with a wide error."
     ) + table_html(pd.DataFrame(rows))))
     return sections
 
