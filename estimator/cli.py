@@ -113,10 +113,16 @@ def predict(inputs, oils, basis, sum_tolerance, methods, temperatures, models, o
         else:
             emit(_long_for_terminal(result.long), None, footer=_methods_footer())
         return
+    footer = _methods_footer()
+    if models:
+        method = result.long["method"].astype(str)
+        fitted = result.long.loc[method.str.startswith("fit:"), "property"].astype(str)
+        footer = (f"From the fitted model file(s): {', '.join(dict.fromkeys(fitted))}.\n"
+                  + footer)
     if output:
         emit(result.wide, output)
     else:
-        emit(_wide_for_terminal(result.wide), None, footer=_methods_footer())
+        emit(_wide_for_terminal(result.wide), None, footer=footer)
 
 
 def _wide_for_terminal(table):

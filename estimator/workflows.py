@@ -81,8 +81,12 @@ def predict(
     if models:
         from estimator.refit.apply import apply_models, wide_with_models
 
+        order = list(wide(long).columns)
         long = apply_models(profile, list(models), long)
         table = wide_with_models(long)
+        # keep the property order of the plain table; fitted properties take their place
+        table = table[[c for c in order if c in table.columns]
+                      + [c for c in table.columns if c not in order]]
     else:
         table = wide(long)
     flags = table.pop("flags")

@@ -141,3 +141,23 @@ def test_methods_unknown_property_lists_known_ones():
     assert result.exit_code == 2
     assert result.output.startswith("fame-estimator: error: unknown property 'smoke_point'; "
                                     "known: cetane_number, ")
+
+
+def test_predict_with_a_model_file_replaces_the_fitted_property(tmp_path):
+    # synthetic: the invented demo lab set (data/demo/LAB.md states its generating laws)
+    lab = ROOT / "data" / "demo" / "lab_samples.csv"
+    model = tmp_path / "m.json"
+    fitted = run("fit", str(lab), "--property", "cetane_number", "--no-report", "-o", str(model))
+    assert fitted.exit_code == 0, fitted.output
+    out = tmp_path / "p.csv"
+    result = run("predict", "--oil", "rapeseed", "--model", str(model), "-o", str(out))
+    assert result.exit_code == 0, result.output
+    table = pd.read_csv(out)
+    assert list(table.columns[:3]) == ["sample", "cetane_number", "cetane_number_error"]
+    default = run("predict", "--oil", "rapeseed", "-o", str(tmp_path / "d.csv"))
+    assert default.exit_code == 0
+    plain = pd.read_csv(tmp_path / "d.csv")
+    # the lab law adds +2.0 to Bamgboye-Hansen (LAB.md): the fitted value differs
+    assert table.loc[0, "cetane_number"] != pytest.approx(plain.loc[0, "cetane_number"], abs=0.05)
+    shown = run("predict", "--oil", "rapeseed", "--model", str(model))
+    assert "From the fitted model file(s): cetane_number." in shown.output
