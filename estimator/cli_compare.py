@@ -61,10 +61,16 @@ def _inputs(func):
     return click.argument("inputs", nargs=-1, type=click.Path(dir_okay=False))(func)
 
 
-def _footer(climate_class: str | None, spec_names) -> str:
+def _footer(climate_class: str | None, spec_names, verdicts=None) -> str:
     from estimator.cautions import CAUTION_SHORT
 
     lines = []
+    if verdicts is not None:
+        os_fail = (verdicts["property"] == "oxidation_stability_110C_h") & (
+            verdicts["verdict"] == "fails")
+        if os_fail.any():
+            lines.append("Oxidation stability is the esters' own, without antioxidant; "
+                         "producers commonly dose one to reach the limit (common practice).")
     if climate_class is None and any(s in ("en14214", "en590") for s in spec_names):
         lines.append("CFPP not judged: give --climate-class (A-F, or arctic 0-4) to check it.")
     lines.append(CAUTION_SHORT)
@@ -119,7 +125,7 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
     profile = load_inputs(inputs, oils, basis, sum_tolerance)
     table = check_profile(profile, names, climate_class)
     failed = int((table["verdict"] == "fails").sum())
-    footer = _footer(climate_class, names)
+    footer = _footer(climate_class, names, table)
     if output:
         frame, sheets = _with_caution(table, output)
         emit(frame, output, footer=footer, sheets=sheets)
@@ -187,7 +193,7 @@ def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretr
     profile = load_inputs(inputs, oils, basis, sum_tolerance)
     result = compare_lots(profile, spec_names=names, climate_class=climate_class,
                           pretreat=pretreat, methanol_ratio=methanol_ratio)
-    footer = _footer(climate_class, names)
+    footer = _footer(climate_class, names, result.verdicts)
     if outdir:
         from estimator.report.html import write_comparison
 
