@@ -8,45 +8,15 @@ scikit-learn are imported only inside the commands that draw or fit.
 
 from __future__ import annotations
 
-import os
 import sys
-from pathlib import Path
 
 import click
 
 from estimator import __version__
-from estimator.cliutil import CONTEXT, emit, input_options, load_inputs
-from estimator.errors import EstimatorError
+from estimator.cliutil import CONTEXT, ReportingGroup, emit, input_options, load_inputs
 
 
-class _Group(click.Group):
-    """A click group that reports our errors as one line instead of a traceback."""
-
-    def invoke(self, ctx: click.Context):  # noqa: D102
-        try:
-            return super().invoke(ctx)
-        except EstimatorError as exc:
-            click.echo(f"fame-estimator: error: {exc}", err=True)
-            ctx.exit(exc.exit_code)
-        except OSError as exc:
-            name = Path(exc.filename).name if getattr(exc, "filename", None) else ""
-            where = f"{name}: " if name else ""
-            click.echo(f"fame-estimator: error: {where}{exc.strerror or exc}", err=True)
-            ctx.exit(1)
-        except (click.exceptions.Exit, click.ClickException, click.Abort):
-            raise
-        except Exception as exc:
-            if os.environ.get("FAME_ESTIMATOR_DEBUG"):
-                raise
-            click.echo(
-                f"fame-estimator: internal error: {type(exc).__name__}: {exc} (please report it; "
-                "set FAME_ESTIMATOR_DEBUG=1 to see the traceback)",
-                err=True,
-            )
-            ctx.exit(1)
-
-
-@click.group(cls=_Group, context_settings=CONTEXT)
+@click.group(cls=ReportingGroup, context_settings=CONTEXT)
 @click.version_option(__version__, prog_name="fame-estimator")
 def cli() -> None:
     """Estimate what fuel an oil or fat will make, from its fatty-acid profile.

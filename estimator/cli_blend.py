@@ -18,30 +18,14 @@ from pathlib import Path
 
 import click
 
-from estimator.cliutil import CONTEXT, emit, input_options, load_inputs
-from estimator.errors import EstimatorError, UsageError
+from estimator.cliutil import CONTEXT, ReportingCommand, emit, input_options, load_inputs
+from estimator.errors import UsageError
 
 __all__ = ["INFEASIBLE_EXIT_CODE", "blend", "mix"]
 
 #: Exit status of ``mix`` when no mix of the lots meets every limit.
 INFEASIBLE_EXIT_CODE = 1
 DEFAULT_LEVELS = "0,2,5,7,10,20,30,50,100"
-
-
-class _Command(click.Command):
-    """A command that reports our errors as one line instead of a traceback."""
-
-    def invoke(self, ctx: click.Context):  # noqa: D102
-        try:
-            return super().invoke(ctx)
-        except EstimatorError as exc:
-            click.echo(f"fame-estimator: error: {exc}", err=True)
-            ctx.exit(exc.exit_code)
-        except OSError as exc:
-            name = Path(exc.filename).name if getattr(exc, "filename", None) else ""
-            where = f"{name}: " if name else ""
-            click.echo(f"fame-estimator: error: {where}{exc.strerror or exc}", err=True)
-            ctx.exit(1)
 
 
 def _cold_options(func):
@@ -114,7 +98,7 @@ def _pm(value: float, error: float) -> str:
 
 
 # ---------------------------------------------------------------- blend
-@click.command(cls=_Command, context_settings=CONTEXT)
+@click.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.argument("inputs", nargs=-1, type=click.Path(dir_okay=False))
 @click.option("--oil", "oils", multiple=True, metavar="NAME",
               help="A built-in typical profile (repeatable); see 'fame-estimator oils'.")
@@ -258,7 +242,7 @@ def _print_blend(wide, fuel, fame) -> None:
 
 
 # ---------------------------------------------------------------- mix
-@click.command(cls=_Command, context_settings=CONTEXT)
+@click.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.argument("input_file", metavar="INPUT", type=click.Path(dir_okay=False))
 @input_options
 @click.option("--spec", "spec", default="en14214", show_default=True, metavar="NAME",

@@ -12,30 +12,13 @@ from pathlib import Path
 
 import click
 
-from estimator.cliutil import CONTEXT, emit, input_options, load_inputs
-from estimator.errors import EstimatorError
+from estimator.cliutil import CONTEXT, ReportingCommand, emit, input_options, load_inputs
 
 __all__ = ["STRICT_EXIT_CODE", "check", "compare"]
 
 #: Exit status of ``check --strict`` when any verdict is ``fails``.
 STRICT_EXIT_CODE = 3
 DEFAULT_SPECS = ("en14214", "astm-d6751")
-
-
-class _Command(click.Command):
-    """A command that reports our errors as one line instead of a traceback."""
-
-    def invoke(self, ctx: click.Context):  # noqa: D102
-        try:
-            return super().invoke(ctx)
-        except EstimatorError as exc:
-            click.echo(f"fame-estimator: error: {exc}", err=True)
-            ctx.exit(exc.exit_code)
-        except OSError as exc:
-            name = Path(exc.filename).name if getattr(exc, "filename", None) else ""
-            where = f"{name}: " if name else ""
-            click.echo(f"fame-estimator: error: {where}{exc.strerror or exc}", err=True)
-            ctx.exit(1)
 
 
 def _spec_options(func):
@@ -91,7 +74,7 @@ def _with_caution(frame, output: str | None):
     return frame, None
 
 
-@click.command(cls=_Command, context_settings=CONTEXT)
+@click.command(cls=ReportingCommand, context_settings=CONTEXT)
 @_inputs
 @_spec_options
 @click.option("--strict", is_flag=True,
@@ -156,7 +139,7 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
         click.get_current_context().exit(STRICT_EXIT_CODE)
 
 
-@click.command(cls=_Command, context_settings=CONTEXT)
+@click.command(cls=ReportingCommand, context_settings=CONTEXT)
 @_inputs
 @_spec_options
 @click.option("--pretreat", type=click.Choice(["none", "acid"]), default="none",

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import click
 
-from estimator.cliutil import CONTEXT, input_options
+from estimator.cliutil import CONTEXT, ReportingCommand, input_options
 from estimator.errors import UsageError
 
 __all__ = ["fit"]
@@ -20,7 +20,7 @@ __all__ = ["fit"]
 #: Method names of fitted models in the long estimate table start with this.
 
 
-@click.command("fit", context_settings=CONTEXT)
+@click.command("fit", cls=ReportingCommand, context_settings=CONTEXT)
 @click.argument("lab_file", type=click.Path(dir_okay=False))
 @click.option("--property", "properties", multiple=True, required=True, metavar="NAME",
               help="A measured property column to refit (repeatable), named as in predict's "

@@ -4,12 +4,12 @@ from __future__ import annotations
 
 import click
 
-from estimator.cliutil import CONTEXT
+from estimator.cliutil import CONTEXT, ReportingCommand
 
 __all__ = ["report"]
 
 
-@click.command(context_settings=CONTEXT)
+@click.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.argument("scenario_file", type=click.Path(dir_okay=False))
 @click.option("-o", "--output", "outdir", required=True, metavar="DIR",
               help="Folder for the tables, plots, model file and report.html.")

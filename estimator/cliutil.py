@@ -2,9 +2,59 @@
 
 from __future__ import annotations
 
+import os
+from pathlib import Path
+
 import click
 
 CONTEXT = {"help_option_names": ["-h", "--help"], "max_content_width": 100}
+
+
+def invoke_reporting(ctx: click.Context, invoke):
+    """Run ``invoke()``; turn our errors into one stderr line and an exit status.
+
+    :class:`~estimator.errors.EstimatorError` exits with its own code (1 bad data,
+    2 bad usage); an OSError (unreadable or unwritable file) exits 1; anything else
+    is an internal error, reported in one line too unless ``FAME_ESTIMATOR_DEBUG``
+    is set.
+    """
+    from estimator.errors import EstimatorError
+
+    try:
+        return invoke()
+    except EstimatorError as exc:
+        click.echo(f"fame-estimator: error: {exc}", err=True)
+        ctx.exit(exc.exit_code)
+    except OSError as exc:
+        name = Path(exc.filename).name if getattr(exc, "filename", None) else ""
+        where = f"{name}: " if name else ""
+        click.echo(f"fame-estimator: error: {where}{exc.strerror or exc}", err=True)
+        ctx.exit(1)
+    except (click.exceptions.Exit, click.ClickException, click.Abort):
+        raise
+    except Exception as exc:
+        if os.environ.get("FAME_ESTIMATOR_DEBUG"):
+            raise
+        click.echo(
+            f"fame-estimator: internal error: {type(exc).__name__}: {exc} (please report it; "
+            "set FAME_ESTIMATOR_DEBUG=1 to see the traceback)",
+            err=True,
+        )
+        ctx.exit(1)
+
+
+class ReportingCommand(click.Command):
+    """A command that reports our errors as one line instead of a traceback."""
+
+    def invoke(self, ctx: click.Context):  # noqa: D102
+        return invoke_reporting(ctx, lambda: super(ReportingCommand, self).invoke(ctx))
+
+
+class ReportingGroup(click.Group):
+    """A command group that reports our errors as one line instead of a traceback."""
+
+    def invoke(self, ctx: click.Context):  # noqa: D102
+        return invoke_reporting(ctx, lambda: super(ReportingGroup, self).invoke(ctx))
 
 
 def input_options(func):

@@ -28,19 +28,11 @@ LAB = ROOT / "data" / "demo" / "lab_samples.csv"
 LOTS = ROOT / "data" / "demo" / "lots.csv"
 
 
-def _cli():
-    """The real command group when the lead has registered ``fit``, else the same group class."""
-    from estimator.cli import _Group, cli
-
-    if "fit" in cli.commands:
-        return cli
-    group = _Group("fame-estimator")
-    group.add_command(fit)
-    return group
-
-
 def run(*args: str):
-    return CliRunner().invoke(_cli(), list(args))
+    from estimator.cli import cli
+
+    assert cli.commands["fit"] is fit
+    return CliRunner().invoke(cli, list(args))
 
 
 @pytest.fixture(scope="module")
