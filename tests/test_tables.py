@@ -46,14 +46,8 @@ def test_table_has_the_columns_the_package_reads(name):
     assert vt.check_required(TABLES[name]) == []
 
 
-MELTING_GAP = (
-    "species.csv leaves melting_source blank where melting_point_C is blank (13 rows); the "
-    "other value-source columns write 'none; <reason>'. Table owner to fill; remove this mark then."
-)
 SOURCE_CELLS = [
-    pytest.param(name, col, id=f"{name}-{col}",
-                 marks=[pytest.mark.xfail(reason=MELTING_GAP, strict=True)]
-                 if (name, col) == ("species", "melting_source") else [])
+    pytest.param(name, col, id=f"{name}-{col}")
     for name in vt.TABLE_NAMES for col in vt.source_columns(TABLES[name])
 ]
 
