@@ -13,7 +13,14 @@ import sys
 import click
 
 from estimator import __version__
-from estimator.cliutil import CONTEXT, ReportingGroup, emit, input_options, load_inputs
+from estimator.cliutil import (
+    CONTEXT,
+    ReportingCommand,
+    ReportingGroup,
+    emit,
+    input_options,
+    load_inputs,
+)
 
 
 @click.group(cls=ReportingGroup, context_settings=CONTEXT)
@@ -45,7 +52,7 @@ def _temperatures(ctx, param, value: str | None) -> tuple[float, ...]:
     return temps
 
 
-@cli.command(context_settings=CONTEXT)
+@cli.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.argument("inputs", nargs=-1, type=click.Path(dir_okay=False))
 @click.option("--oil", "oils", multiple=True, metavar="NAME",
               help="A built-in typical profile (repeatable); see 'fame-estimator oils'.")
@@ -121,7 +128,7 @@ def _methods_footer() -> str:
             "certification; see the README cautions.")
 
 
-@cli.command(context_settings=CONTEXT)
+@cli.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.option("--property", "prop", metavar="NAME", help="Only the methods for one property.")
 @click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json).")
 def methods(prop, output) -> None:
@@ -167,7 +174,7 @@ def _error_text(error: float, kind: str) -> str:
     return f"stated error: {kind} {error:g}"
 
 
-@cli.command(context_settings=CONTEXT)
+@cli.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.option("--ranges", is_flag=True, help="Show the Codex composition ranges instead.")
 @click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json).")
 def oils(ranges, output) -> None:

@@ -173,6 +173,11 @@ def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretr
     names = spec_names or DEFAULT_SPECS
     climate_class = normalise_climate_class(climate_class)
     limits(names, climate_class)
+    if outdir and Path(outdir).suffix.lower() in (".csv", ".xlsx", ".json", ".html"):
+        from estimator.errors import UsageError
+
+        raise UsageError(f"-o {outdir}: compare writes a folder of files; give a folder name "
+                         "(e.g. -o out/lots), not a file")
     profile = load_inputs(inputs, oils, basis, sum_tolerance)
     result = compare_lots(profile, spec_names=names, climate_class=climate_class,
                           pretreat=pretreat, methanol_ratio=methanol_ratio)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import sys
 from pathlib import Path
 
 import click
@@ -21,7 +22,12 @@ def invoke_reporting(ctx: click.Context, invoke):
     from estimator.errors import EstimatorError
 
     try:
+        _refuse_overwriting_inputs(ctx)
         return invoke()
+    except BrokenPipeError:
+        # the reader went away (e.g. piped into head): stop quietly
+        sys.stderr.close()
+        ctx.exit(0)
     except EstimatorError as exc:
         click.echo(f"fame-estimator: error: {exc}", err=True)
         ctx.exit(exc.exit_code)
@@ -41,6 +47,31 @@ def invoke_reporting(ctx: click.Context, invoke):
             err=True,
         )
         ctx.exit(1)
+
+
+#: Parameters that name files a command writes; all other path-like values are inputs.
+OUTPUT_PARAMS = ("output", "outdir", "plot", "report_path")
+
+
+def _refuse_overwriting_inputs(ctx: click.Context) -> None:
+    """An output that is one of the command's own input files is a usage error."""
+    from estimator.errors import UsageError
+
+    def paths(value) -> list[Path]:
+        values = value if isinstance(value, (tuple, list)) else (value,)
+        return [Path(v) for v in values if isinstance(v, str) and v]
+
+    inputs = {
+        p.resolve() for name, value in ctx.params.items() if name not in OUTPUT_PARAMS
+        for p in paths(value) if p.is_file()
+    }
+    for name in OUTPUT_PARAMS:
+        for out in paths(ctx.params.get(name)):
+            if out.resolve() in inputs:
+                raise UsageError(
+                    f"{out.name} is one of this command's inputs: refusing to overwrite it; "
+                    "choose another output file"
+                )
 
 
 class ReportingCommand(click.Command):
@@ -74,11 +105,12 @@ def load_inputs(
     inputs: tuple[str, ...], oils: tuple[str, ...], basis: str, sum_tolerance: float
 ):
     """Read every INPUT file and --oil name into one Profile."""
+    from estimator.errors import UsageError
     from estimator.profiles.io import read_profile
     from estimator.profiles.profile import Profile
 
     if not inputs and not oils:
-        raise click.UsageError("give at least one INPUT file or --oil NAME")
+        raise UsageError("give at least one INPUT file or --oil NAME (see --help)")
     parts = [read_profile(p, basis=basis, sum_tolerance=sum_tolerance) for p in inputs]
     if oils:
         parts.append(Profile.from_oils(oils))

@@ -80,7 +80,9 @@ def test_unknown_oil_is_a_usage_error():
 def test_predict_without_input_is_a_usage_error():
     result = run("predict")
     assert result.exit_code == 2
-    assert "give at least one INPUT file or --oil NAME" in result.output
+    assert result.output == (
+        "fame-estimator: error: give at least one INPUT file or --oil NAME (see --help)\n"
+    )
 
 
 def test_unwritable_output_suffix_is_a_usage_error(tmp_path):
@@ -161,3 +163,16 @@ def test_predict_with_a_model_file_replaces_the_fitted_property(tmp_path):
     assert table.loc[0, "cetane_number"] != pytest.approx(plain.loc[0, "cetane_number"], abs=0.05)
     shown = run("predict", "--oil", "rapeseed", "--model", str(model))
     assert "From the fitted model file(s): cetane_number." in shown.output
+
+
+def test_an_output_that_is_an_input_is_refused(tmp_path):
+    lots = tmp_path / "lots.csv"
+    lots.write_bytes(LOTS.read_bytes())
+    before = lots.read_bytes()
+    result = run("predict", str(lots), "-o", str(lots))
+    assert result.exit_code == 2
+    assert result.output == (
+        "fame-estimator: error: lots.csv is one of this command's inputs: refusing to "
+        "overwrite it; choose another output file\n"
+    )
+    assert lots.read_bytes() == before

@@ -213,7 +213,9 @@ def _numbers(column: pd.Series, label: str, name: str, rows: np.ndarray,
              allow_nd: bool = False) -> np.ndarray:
     """Parse a column of cells as numbers; the first bad cell is an error with its row."""
     if pd.api.types.is_numeric_dtype(column):
-        return column.to_numpy(dtype=float)
+        values = column.to_numpy(dtype=float)
+        _check_finite(values, column, label, name, rows)
+        return values
     text = column.astype(object)
     cleaned = text.map(lambda v: v.strip().replace("\u00a0", "") if isinstance(v, str) else v)
     if allow_nd:
@@ -229,7 +231,24 @@ def _numbers(column: pd.Series, label: str, name: str, rows: np.ndarray,
         raise ProfileError(
             f"{label}: row {rows[i]}, column {name!r}: {text.iloc[i]!r} is not a number"
         )
-    return parsed.to_numpy(dtype=float)
+    values = parsed.to_numpy(dtype=float)
+    _check_finite(values, text, label, name, rows)
+    return values
+
+
+def _check_finite(values: np.ndarray, cells: pd.Series, label: str, name: str,
+                  rows: np.ndarray) -> None:
+    bad = np.isinf(values)
+    if bad.any():
+        i = int(np.argmax(bad))
+        raise ProfileError(
+            f"{label}: row {rows[i]}, column {name!r}: '{cells.iloc[i]}' is not a finite number"
+        )
+
+
+#: A header that looks like a lipid number or a GC peak label but did not parse, e.g.
+#: 'C18:l' (letter l for digit 1), 'C18-1', '18.1': refused rather than read as metadata.
+SPECIES_TYPO = re.compile(r"^\s*c?\s*\d{1,2}\s*[:\-._;,]\s*[\dloiz]", re.IGNORECASE)
 
 
 def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns) -> Profile:
@@ -255,6 +274,11 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns) ->
                 )
             else:
                 species_cols[key] = col
+        elif SPECIES_TYPO.match(col):
+            raise ProfileError(
+                f"{label}: column {col!r} looks like a species but is not one the notation "
+                "parser knows (e.g. C18:1, 18:1n-9, oleic); correct the header or rename it"
+            )
         else:
             meta_cols.append(col)
     if not species_cols:

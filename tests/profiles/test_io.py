@@ -121,6 +121,11 @@ BAD = [
      "s.csv: row 2, column 'sample': empty sample id"),
     ("repeated header", "s.csv", "sample,C16:0,C16:0,C18:1\na,5,5,90\n",
      "s.csv: column 'C16:0' appears twice"),
+    ("infinite value", "s.csv", "sample,C16:0,C18:1\na,inf,90\n",
+     "s.csv: row 2, column 'C16:0': 'inf' is not a finite number"),
+    ("misspelt species header read as metadata", "s.csv", "sample,C16:0,C18:l,C18:1\na,10,1,89\n",
+     "s.csv: column 'C18:l' looks like a species but is not one the notation parser knows "
+     "(e.g. C18:1, 18:1n-9, oleic); correct the header or rename it"),
 ]
 
 
