@@ -231,6 +231,14 @@ def estimate(
             m = all_methods[mname]
             values = evaluated[name][mname]
             violations = m.domain.violations(w, desc)
+            if _t is not None:
+                # a curve point below the sample's estimated cloud point describes a liquid
+                # that is already clouding: the per-ester liquid data do not hold there
+                cp = evaluated["cloud_point_C"][DEFAULTS["cloud_point_C"]]
+                below = np.asarray(_t < cp)
+                if below.any():
+                    violations = [*violations, (f"{_t:g} degC is below the estimated cloud "
+                                                "point: wax is crystallising", below)]
             inside = np.ones(n, dtype=bool)
             for _, mask in violations:
                 inside &= ~mask

@@ -210,3 +210,17 @@ def test_wide_of_all_methods_shows_the_defaults():
     a = wide(estimate(W, NAMES, methods="all"))
     b = wide(estimate(W, NAMES))
     pd.testing.assert_frame_equal(a, b)
+
+
+def test_curve_points_below_the_cloud_point_are_flagged_not_silently_liquid():
+    # common practice: palm methyl ester clouds well above 0 degC, so a liquid density or
+    # viscosity at 0 degC is an extrapolation of the per-ester liquid data
+    from estimator.profiles.profile import Profile
+
+    p = Profile.from_oils(["palm"])
+    long = estimate(p.wt_pct, p.samples, temperatures_C=[0, 60])
+    cold = long[long["property"].isin(["density_0C_kg_m3", "kin_viscosity_0C_mm2_s"])]
+    warm = long[long["property"].isin(["density_60C_kg_m3", "kin_viscosity_60C_mm2_s"])]
+    assert not cold["in_domain"].any()
+    assert cold["note"].astype(str).str.contains("below the estimated cloud point").all()
+    assert warm["in_domain"].all()
