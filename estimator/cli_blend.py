@@ -193,7 +193,8 @@ def _summary_text(table) -> str:
     return (
         "Highest blend level (% v/v FAME) meeting each target; in brackets, the highest\n"
         "level with the stated error taken against the blend (the cautious answer).\n"
-        "EN 590 allows at most B7; ASTM D7467 covers B6-B20.\n\n"
+        "EN 590 allows at most B7; ASTM D7467 covers B6-B20 and sets no cold-flow limit\n"
+        "(by agreement between buyer and seller), so its column says nothing about winter.\n\n"
         + format_table(table, transpose=False)
     )
 

@@ -50,7 +50,7 @@ def test_fit_prints_the_scores_the_choice_and_the_caution():
     out = result.output
     assert "cfpp_C [°C]: 25 samples, leave-one-out (seed 0)" in out  # 25 CFPP cells filled
     assert "recalibrated:ramos2009" in out and "gp:descriptors" in out
-    assert "cfpp_C: No composition model beats the published method ramos2009 recalibrated" in out
+    assert "cfpp_C: Chosen: ramos2009 recalibrated to this lab" in out
     assert CAUTION_SHORT in out
     assert "cross-validating" not in out  # no progress bar when output is not a terminal
 

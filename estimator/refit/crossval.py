@@ -487,13 +487,13 @@ def _statement(
         )
     if kind == "recalibrated":
         return (
-            f"No composition model beats the published method {chosen.candidate.method} "
-            f"recalibrated to this lab (a + b x estimate): CV RMSE {chosen.rmse:.3g} against "
-            f"{best_pub.rmse:.3g} for the best published method as is ({pub}); the model file "
-            f"records {chosen.candidate.method} recalibrated ({tie})."
+            f"Chosen: {chosen.candidate.method} recalibrated to this lab (a + b x estimate), "
+            f"CV RMSE {chosen.rmse:.3g}; no composition model (ridge, PLS, Gaussian process) "
+            f"does better. Best published method as is: {pub}, CV RMSE {best_pub.rmse:.3g} "
+            f"({tie})."
         )
     gain = 100.0 * (1.0 - chosen.rmse / best_pub.rmse)
     return (
-        f"{name} beats the best published method {pub}: CV RMSE {chosen.rmse:.3g} against "
-        f"{best_pub.rmse:.3g} ({gain:.0f} % lower; {tie})."
+        f"Chosen: {name}, CV RMSE {chosen.rmse:.3g}: it beats the best published method "
+        f"{pub} (CV RMSE {best_pub.rmse:.3g}) by {gain:.0f} % ({tie})."
     )

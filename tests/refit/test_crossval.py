@@ -162,7 +162,7 @@ def test_a_known_linear_law_is_recovered_within_the_noise():
     fresh = compositions(300, seed=99)
     error = fit.model.predict(fresh).value - known_law(fresh)
     assert np.sqrt(np.mean(error ** 2)) < sigma  # the law itself, within the noise
-    assert "beats the best published method" in fit.statement
+    assert "it beats the best published method" in fit.statement
 
 
 def test_when_the_lab_follows_a_published_law_the_published_method_is_kept():
@@ -188,8 +188,8 @@ def test_a_lab_offset_is_absorbed_by_recalibration():
     fit = fit_property(lab(w, cfpp_C=y), "cfpp_C")
     assert fit.chosen.candidate.name == "recalibrated:ramos2009"
     assert fit.model.params["slope"] == pytest.approx(0.8, abs=0.05)
-    assert fit.statement.startswith("No composition model beats the published method ramos2009 "
-                                    "recalibrated to this lab")
+    assert fit.statement.startswith("Chosen: ramos2009 recalibrated to this lab "
+                                    "(a + b x estimate)")
 
 
 def test_blank_measurements_leave_the_sample_out():
