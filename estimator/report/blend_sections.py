@@ -93,11 +93,16 @@ def blend_sections(
         table[label] = _pm_column(shown[prop], shown[f"{prop}_error"], decimals[prop])
     sections.append(Section("Blend table", table_html(table)))
     if highest is not None:
-        h = highest[["sample", "target", "highest_level_pct_v",
-                     "highest_level_with_error_pct_v", "how"]].rename(columns={
-                         "highest_level_pct_v": "highest B [% v/v]",
-                         "highest_level_with_error_pct_v": "with the error against it",
-                     })
+        h = highest[["sample", "group", "target", "highest_level_pct_v",
+                     "highest_level_with_error_pct_v", "how"]].copy()
+        h["group"] = h["group"].map(
+            lambda g: {"target": "your target", "en590": "EN 590",
+                       "astm-d7467": "ASTM D7467"}.get(g, g))
+        h = h.rename(columns={
+            "group": "from",
+            "highest_level_pct_v": "highest B [% v/v]",
+            "highest_level_with_error_pct_v": "with the error against it",
+        })
         sections.append(Section("Highest blend levels", table_html(h, digits=3)))
     rows = []
     for prop, methods in BLEND_METHODS.items():
