@@ -702,7 +702,36 @@ def _finish(profile, problem: _Problem, valued, shares, feasible, message, solve
         })
     ctable = pd.DataFrame(crow)
     verdicts = check(long, spec, climate_class) if spec is not None else None
+    targets = _target_verdicts(long, [c for c in problem.all if c.source == "user"])
+    if targets is not None:
+        verdicts = targets if verdicts is None else pd.concat([verdicts, targets],
+                                                              ignore_index=True)
     cost = float(problem.cost @ shares)
     return MixResult(feasible=bool(feasible), message=message, lots=lots, constraints=ctable,
                      composition=composition, estimates=long, cost_per_t_fuel=cost,
                      solver=solver, verdicts=verdicts, diagnosis=diagnosis, notes=notes)
+
+
+def _target_verdicts(long: pd.DataFrame, targets: Sequence[Constraint]) -> pd.DataFrame | None:
+    """Verdicts of the mix against the user's own targets (--max-cfpp ...), like ``check``."""
+    from estimator.properties.methods import DEFAULTS
+    from estimator.specs import CHECK_COLUMNS, _verdicts
+
+    rows = []
+    for c in targets:
+        est = long[(long["property"].astype(str) == c.property)
+                   & (long["method"].astype(str) == DEFAULTS.get(c.property, ""))]
+        if est.empty:
+            continue
+        r = est.iloc[0]
+        rows.append({"sample": r["sample"], "spec": "target", "property": c.property,
+                     "estimate": float(r["value"]), "error": float(r["error"]),
+                     "limit": c.limit, "bound": c.kind, "unit": str(r["unit"]),
+                     "method": str(r["method"]), "in_domain": bool(r["in_domain"]),
+                     "climate_class": None, "edition": "", "mark": "user target"})
+    if not rows:
+        return None
+    frame = pd.DataFrame(rows)
+    frame["verdict"] = _verdicts(frame["estimate"].to_numpy(float), frame["error"].to_numpy(float),
+                                 frame["limit"].to_numpy(float), frame["bound"].to_numpy() == "min")
+    return frame[CHECK_COLUMNS]

@@ -259,3 +259,17 @@ def test_mixed_composition_is_the_mass_weighted_profile():
     mix = m.mixed_composition(lots.wt_pct, np.array([0.3, 0.7]))
     assert mix == pytest.approx(0.3 * lots.wt_pct[0] + 0.7 * lots.wt_pct[1])
     assert mix.sum() == pytest.approx(100.0)
+
+
+def test_mix_verdicts_include_the_users_own_targets():
+    # a target the mix meets exactly (binding) lies inside the CFPP error band, so the
+    # verdict must say too close to call, not stay silent (common practice: a limit met
+    # only on the estimate is not met with confidence)
+    from estimator.profiles.io import read_profile
+
+    lots = read_profile(DEMO, basis="fatty-acid")
+    constraints = m.mix_constraints("en14214", max_cfpp_C=-5.0)
+    result = m.least_cost_mix(lots, constraints, spec="en14214", available_column="available_t")
+    target = result.verdicts[result.verdicts["spec"] == "target"]
+    assert list(target["property"]) == ["cfpp_C"]
+    assert target["verdict"].iloc[0] == "too close to call"
