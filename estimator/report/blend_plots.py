@@ -218,6 +218,11 @@ def _limit_handles(targets: Sequence, props: set[str]) -> list:
     return handles
 
 
+#: Headroom bars stop at this many stated errors (limits fixed exactly by the profile,
+#: with no error band, are drawn at the cap).
+HEADROOM_CAP = 10.0
+
+
 def mix_shares(result, *, title: str | None = None):
     """The chosen shares of each lot and how close the mixed fuel is to each limit.
 
@@ -270,30 +275,49 @@ def mix_shares(result, *, title: str | None = None):
         y2 = np.arange(m)[::-1].astype(float)
         limit = c["limit"].to_numpy(dtype=float)
         margin = c["margin"].to_numpy(dtype=float)
-        rel = 100.0 * margin / np.maximum(np.abs(limit), 1.0)
+        # headroom in multiples of the estimate's stated error: below 1 the verdict is
+        # 'too close to call'; limits fixed by the composition have no error band
+        est = result.estimates
+        from estimator.properties.methods import DEFAULTS
+
+        default_rows = est[est["method"].astype(str)
+                           == est["property"].astype(str).map(DEFAULTS).fillna("")]
+        err_of = dict(zip(default_rows["property"].astype(str), default_rows["error"]))
+        err = np.array([float(err_of.get(str(p), np.nan)) for p in c["property"]])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            rel = np.where(np.isfinite(err) & (err > 0), margin / err,
+                           np.where(margin > 0, np.inf, np.where(margin < 0, -np.inf, 0.0)))
+        capped = np.abs(rel) > HEADROOM_CAP
+        rel = np.clip(rel, -HEADROOM_CAP, HEADROOM_CAP)
+        del limit
         binding = c["binding"].to_numpy(dtype=bool)
         missed = ~c["meets"].to_numpy(dtype=bool)
         plain = ~binding & ~missed
         ax2.barh(y2[plain], rel[plain], height=0.62, color="#88CCEE", edgecolor="#222222",
                  linewidth=0.6)
-        shown = np.where(binding & ~missed & (np.abs(rel) < 1.5), 1.5, rel)
+        shown = np.where(binding & ~missed & (np.abs(rel) < 0.15), 0.15, rel)
         ax2.barh(y2[binding & ~missed], shown[binding & ~missed],
                  height=0.62, color="#DDCC77", hatch="///", edgecolor="#222222", linewidth=0.6)
         ax2.barh(y2[missed], rel[missed], height=0.62, color="#CC6677", hatch="xx",
                  edgecolor="#222222", linewidth=0.6)
         ax2.axvline(0, color="#000000", linewidth=1.0)
-        for yi, ri, v, b, miss in zip(y2, shown, c["value"], binding, missed):
+        for yi, ri, v, b, miss, cap in zip(y2, shown, c["value"], binding, missed, capped):
             tag = f"mix {v:.4g}" + ("  (missed)" if miss else "  (binding)" if b else "")
-            ax2.text(max(ri, 0) + 1.0, yi, tag, va="center", ha="left", fontsize=8.5)
+            tag += f"  (> {HEADROOM_CAP:g})" if cap and not b else ""
+            ax2.text(max(ri, 0) + 0.1, yi, tag, va="center", ha="left", fontsize=8.5)
+        ax2.axvline(1.0, color="#555555", linewidth=0.9, linestyle=":")
         ax2.set_yticks(y2, c["constraint"].astype(str))
         ax2.set_ylim(-0.6, m - 0.4)
-        hi = float(np.nanmax(np.r_[rel, 10.0]))
         lo = float(np.nanmin(np.r_[rel, 0.0]))
-        ax2.set_xlim(lo - 5 if lo < 0 else -2, hi * 1.45 + 8)
+        ax2.set_xlim(lo - 0.5 if lo < 0 else -0.2, HEADROOM_CAP * 1.6)
         ax2.grid(axis="y", visible=False)
-        ax2.set_xlabel(axis_label("headroom to the limit", "% of the limit"))
+        ax2.set_xlabel(axis_label("headroom to the limit", "stated errors"))
         ax2.set_title("Limits on the mixed fuel")
+        from matplotlib.lines import Line2D
+
         handles = [Patch(facecolor="#88CCEE", edgecolor="#222222", label="met with headroom"),
+                   Line2D([], [], color="#555555", linewidth=0.9, linestyle=":",
+                          label="1 stated error (closer: too close to call)"),
                    Patch(facecolor="#DDCC77", hatch="///", edgecolor="#222222",
                          label="binding (at the limit)")]
         if missed.any():
