@@ -171,7 +171,7 @@ def _draw_limits(ax, prop: str, targets: Sequence, x_max: float) -> None:
         # segment reaching the right edge is labelled inside, above (max) or below (min).
         box = {"facecolor": "white", "edgecolor": "none", "alpha": 0.8, "pad": 0.5}
         text = f"{name} {t.kind} {t.limit:g}"
-        if hi <= 0.7 * x_max:
+        if hi <= 0.5 * x_max:  # room for the label to the right of the segment
             note = ax.annotate(text, (hi, t.limit), xytext=(3, 0), textcoords="offset points",
                                ha="left", va="center", fontsize=8, color=colour, bbox=box)
         else:
