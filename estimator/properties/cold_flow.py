@@ -9,6 +9,8 @@ can reuse them by diluting those mole fractions.
 
 from __future__ import annotations
 
+from functools import cache
+
 import numpy as np
 
 from estimator.tables import species_column
@@ -317,11 +319,20 @@ def saturated_ester_data():
     >>> [species_keys()[i] for i in idx][:3], float(tm[2]), float(dh[2])
     (['C12:0', 'C14:0', 'C15:0'], 24.3, 50.5)
     """
+    idx, tm, dh = _saturated_ester_data()
+    return idx.copy(), tm.copy(), dh.copy()
+
+
+@cache
+def _saturated_ester_data():
     tm = species_column("melting_point_C")
     dh = species_column("enthalpy_fusion_kJ_mol")
     sat = species_column("double_bonds") == 0
     idx = np.flatnonzero(sat & np.isfinite(tm) & np.isfinite(dh))
-    return idx, tm[idx], dh[idx]
+    out = idx, tm[idx], dh[idx]
+    for arr in out:
+        arr.setflags(write=False)
+    return out
 
 
 def ideal_solubility_temperature_C(mole_fraction, melting_point_C, enthalpy_fusion_kJ_mol):
@@ -477,5 +488,9 @@ def saturated_mole_fractions(wt_pct):
     >>> float(imahara2006(x, tm, dh)[0])  # a pure ester clouds at its melting point
     29.6
     """
-    idx, tm, dh = saturated_ester_data()
-    return mole_fractions(np.atleast_2d(wt_pct))[:, idx], tm, dh
+    idx, tm, dh = _saturated_ester_data()
+    w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
+    inv_m = 1.0 / species_column("fame_molar_mass_g_mol")
+    # only the saturated columns: the total moles are one matrix-vector product
+    x = w[:, idx] * inv_m[idx] / (w @ inv_m)[:, None]
+    return x, tm.copy(), dh.copy()

@@ -224,3 +224,14 @@ def test_curve_points_below_the_cloud_point_are_flagged_not_silently_liquid():
     assert not cold["in_domain"].any()
     assert cold["note"].astype(str).str.contains("below the estimated cloud point").all()
     assert warm["in_domain"].all()
+
+
+def test_fast_wide_table_equals_the_wide_view_of_the_long_table():
+    # regression pin: estimate_wide is an optimisation of wide(estimate(...)), not new science
+    from estimator.profiles.profile import Profile, oil_names
+    from estimator.properties.predict import estimate_wide
+
+    p = Profile.from_oils(oil_names())
+    slow = wide(estimate(p.wt_pct, p.samples, temperatures_C=[-5, 20]))
+    fast = estimate_wide(p.wt_pct, p.samples, temperatures_C=[-5, 20])
+    pd.testing.assert_frame_equal(fast, slow)
