@@ -26,6 +26,7 @@ Nothing here prints or draws; :mod:`estimator.report.scenario_report` writes the
 from __future__ import annotations
 
 import json
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -145,14 +146,29 @@ def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
     result = ScenarioResult(scenario, profile, comparison)
     if scenario.blend is not None:
         say("blending with diesel")
-        result.blend = _run_blend(scenario, profile)
+        with _part(scenario, "blend"):
+            result.blend = _run_blend(scenario, profile)
     if scenario.mix is not None:
         say("finding the least-cost mix")
-        result.mix = _run_mix(scenario, profile)
+        with _part(scenario, "mix"):
+            result.mix = _run_mix(scenario, profile)
     if scenario.lab is not None:
         say("refitting on the lab samples")
-        _run_lab(scenario, result)
+        with _part(scenario, "lab"):
+            _run_lab(scenario, result)
     return result
+
+
+@contextmanager
+def _part(scenario: Scenario, name: str):
+    """Name the scenario file and part in any error raised inside it."""
+    from estimator.errors import EstimatorError
+
+    try:
+        yield
+    except EstimatorError as exc:
+        text = str(exc).replace("--levels", "levels").replace("--demand-t", "demand_t")
+        raise type(exc)(f"{scenario.path.name}: '{name}': {text}") from None
 
 
 def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:

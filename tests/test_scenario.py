@@ -59,3 +59,11 @@ def test_demo_scenario_runs_compare_blend_and_mix(tmp_path):
                for v in result.blend["summary"]["EN 590"])
     assert result.mix.feasible
     assert result.mix.cost_per_t_fuel > 0
+
+
+def test_an_error_inside_a_part_names_the_scenario_file_and_part(tmp_path):
+    path = scenario_file(tmp_path, {"lots": {"file": str(DEMO / "lots.csv")},
+                                    "blend": {"diesel": "en590-winter", "levels": [0, 500]}})
+    with pytest.raises(EstimatorError) as err:
+        run_scenario(read_scenario(path))
+    assert str(err.value) == "scenario.json: 'blend': levels: 500 is outside 0-100 % v/v"
