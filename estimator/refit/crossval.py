@@ -267,7 +267,7 @@ def measured_values(profile: Profile, property_name: str) -> np.ndarray:
         raise InputFileError(f"{label}: missing measured column {property_name!r}{hint}")
     column = profile.metadata[property_name]
     if pd.api.types.is_numeric_dtype(column) and not pd.api.types.is_bool_dtype(column):
-        return column.to_numpy(dtype=float)
+        return _plausible(column.to_numpy(dtype=float), profile, property_name)
     text = column.map(lambda v: v.strip().replace(",", ".") if isinstance(v, str) else v)
     parsed = pd.to_numeric(text.replace("", np.nan), errors="coerce")
     bad = parsed.isna() & column.notna() & (text != "")
@@ -277,7 +277,31 @@ def measured_values(profile: Profile, property_name: str) -> np.ndarray:
             f"{label}: row {profile.rows.iloc[i]}, column {property_name!r}: "
             f"{column.iloc[i]!r} is not a number"
         )
-    return parsed.to_numpy(dtype=float)
+    return _plausible(parsed.to_numpy(dtype=float), profile, property_name)
+
+
+#: Physically plausible ranges of measured FAME properties (common practice: wide bands
+#: around every biodiesel and pure ester, meant to catch unit and typing slips only).
+PLAUSIBLE = {
+    "cetane_number": (0.0, 120.0), "iodine_value_gI2_100g": (0.0, 300.0),
+    "cfpp_C": (-60.0, 60.0), "cloud_point_C": (-60.0, 60.0), "pour_point_C": (-70.0, 60.0),
+    "oxidation_stability_110C_h": (0.0, 500.0), "density_15C_kg_m3": (750.0, 1000.0),
+    "kin_viscosity_40C_mm2_s": (0.5, 30.0), "hhv_MJ_kg": (30.0, 45.0),
+    "lhv_MJ_kg": (28.0, 43.0),
+}
+
+
+def _plausible(values: np.ndarray, profile: Profile, property_name: str) -> np.ndarray:
+    lo, hi = PLAUSIBLE.get(property_name, (-np.inf, np.inf))
+    bad = np.isfinite(values) & ((values < lo) | (values > hi)) | np.isinf(values)
+    if bad.any():
+        i = int(np.argmax(bad))
+        raise InputFileError(
+            f"{profile.source or 'input'}: row {profile.rows.iloc[i]}, column "
+            f"{property_name!r}: {values[i]:g} is not a plausible measurement "
+            f"({lo:g} to {hi:g}); check the value and its unit"
+        )
+    return values
 
 
 def _properties() -> dict[str, str]:

@@ -266,3 +266,20 @@ def test_an_indicator_is_not_a_measured_property():
     with pytest.raises(UsageError, match="a ranking indicator, not a measured quantity"):
         fit_property(lab(w, oxidizability_indicator_wt_pct=known_law(w)),
                      "oxidizability_indicator_wt_pct")
+
+
+def test_an_implausible_measurement_is_refused_with_its_row():
+    # common practice: no FAME has a cetane number below 0; -999 is a missing-value code
+    from estimator.errors import InputFileError
+    from estimator.refit.crossval import measured_values
+
+    w = compositions(12, seed=3)
+    y = np.full(12, 55.0)
+    y[4] = -999.0
+    profile = lab(w, cetane_number=y)
+    with pytest.raises(InputFileError) as err:
+        measured_values(profile, "cetane_number")
+    assert str(err.value).endswith(
+        "column 'cetane_number': -999 is not a plausible measurement (0 to 120); "
+        "check the value and its unit"
+    )
