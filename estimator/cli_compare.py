@@ -198,9 +198,11 @@ def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretr
     from estimator.report.tables import format_table
 
     r = result.ranked
+    unjudged = result.climate_class is None and any(
+        "CFPP not judged" in str(v) for s in result.specs for v in r[f"verdict_{s}"])
     shown = pd.DataFrame({
         "rank": r["rank"], "lot": r["sample"],
-        "overall": r["overall"],
+        "overall": r["overall"] + ("*" if unjudged else ""),
         "cetane": [plus_minus(v, e) for v, e in zip(r["cetane_number"], r["cetane_number_error"])],
         "IV": [plus_minus(v, e) for v, e in zip(r["iodine_value_gI2_100g"],
                                          r["iodine_value_gI2_100g_error"])],
@@ -213,6 +215,9 @@ def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretr
     click.echo("Lots ranked: meeting every spec first, then by feedstock cost per tonne of "
                "fuel\n")
     click.echo(format_table(shown, transpose=False))
+    if unjudged:
+        click.echo("* CFPP not judged: no --climate-class given; a lot that 'meets' may still "
+                   "gel in winter.")
     click.echo("\nverdicts:")
     for _, row in r.iterrows():
         parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[f'verdict_{s}']}" for s in result.specs)

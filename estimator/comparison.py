@@ -165,8 +165,15 @@ def compare_lots(
              .groupby("sample")["_g"].max().reindex(profile.samples).fillna(0).astype(int))
     inverse = {v: k for k, v in _GROUP_ORDER.items()}
     ranked["overall"] = [inverse[g] for g in worst.to_numpy()]
+    with_class = specs.limits(names, "C")
+    cold_limited = set(with_class.loc[with_class["property"] == "cfpp_C", "spec"])
     for spec in names:
-        ranked[f"verdict_{spec}"] = summary[spec].to_numpy() if spec in summary else "meets"
+        text = summary[spec].to_numpy() if spec in summary else np.full(len(summary), "meets")
+        if climate_class is None and spec in cold_limited:
+            # a spec whose CFPP limit depends on the climate class was checked without it
+            text = np.array([f"{t}; CFPP not judged (no climate class)" for t in text],
+                            dtype=object)
+        ranked[f"verdict_{spec}"] = text
     table = table.set_index("sample").reindex(profile.samples)
     for prop in KEY_PROPERTIES:
         if prop in table.columns:

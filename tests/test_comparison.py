@@ -111,3 +111,16 @@ def test_methods_used_of_an_all_methods_table_lists_each_pair_once():
     m = methods_used(estimate(p.wt_pct, p.samples, methods="all"))
     assert not m.duplicated(["property", "method"]).any()
     assert len(m) > len(DEFAULTS)
+
+
+def test_without_a_climate_class_the_en14214_verdict_says_cfpp_was_not_judged():
+    # EN 14214 leaves CFPP to the climate class (standards.md 1.2): a verdict without one
+    # must not read as a clean pass for winter use (common practice)
+    from estimator.comparison import compare_lots
+    from estimator.profiles.profile import Profile
+
+    result = compare_lots(Profile.from_oils(["beef-tallow"]), spec_names=("en14214",))
+    assert result.ranked.loc[0, "verdict_en14214"].endswith("CFPP not judged (no climate class)")
+    judged = compare_lots(Profile.from_oils(["beef-tallow"]), spec_names=("en14214",),
+                          climate_class="C")
+    assert "not judged" not in judged.ranked.loc[0, "verdict_en14214"]
