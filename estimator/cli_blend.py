@@ -144,21 +144,21 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     """
     import numpy as np
 
-    from estimator import blending
+    from estimator import blend_targets, blending
 
     grid = blending.parse_levels(levels)
     specs = [] if spec_names.strip().lower() == "none" else [
         s.strip() for s in spec_names.split(",") if s.strip()]
     fuel = blending.load_diesel(diesel)
-    targets = blending.blend_targets(max_cfpp_C=max_cfpp, max_cloud_point_C=max_cloud_point,
+    targets = blend_targets.blend_targets(max_cfpp_C=max_cfpp, max_cloud_point_C=max_cloud_point,
                                      climate_class=climate_class, specs=specs)
     _check_side_files(plot, report_path)
     profile = load_inputs(inputs, oils, basis, sum_tolerance)
     fame = blending.fame_component(profile.wt_pct, profile.samples)
     table = (blending.blend_table(fame, fuel, grid, methods="all") if methods == "all"
              else blending.blend_wide(fame, fuel, grid))
-    highest = blending.highest_levels(fame, fuel, targets) if targets else None
-    summary = _summary_text(blending.summary_table(highest)) if highest is not None else ""
+    highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
+    summary = _summary_text(blend_targets.summary_table(highest)) if highest is not None else ""
     footer = _blend_footer(fuel)
     if plot or report_path:
         from estimator.report.blend_plots import blend_curves

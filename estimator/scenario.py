@@ -174,25 +174,25 @@ def _part(scenario: Scenario, name: str):
 def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
     import numpy as np
 
-    from estimator import blending
+    from estimator import blend_targets, blending
 
     spec = scenario.blend
     diesel_name = spec["diesel"]
     candidate = scenario.resolve(diesel_name)
     fuel = blending.load_diesel(str(candidate) if candidate.exists() else diesel_name)
     grid = blending.parse_levels(spec.get("levels", "0,2,5,7,10,20,30,50,100"))
-    targets = blending.blend_targets(
+    targets = blend_targets.blend_targets(
         max_cfpp_C=spec.get("max_cfpp_C"), max_cloud_point_C=spec.get("max_cloud_point_C"),
         climate_class=spec.get("climate_class"),
         specs=list(spec.get("specs", ("en590", "astm-d7467"))),
     )
     fame = blending.fame_component(profile.wt_pct, profile.samples)
     wide = blending.blend_wide(fame, fuel, grid)
-    highest = blending.highest_levels(fame, fuel, targets) if targets else None
+    highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
     top = float(grid.max()) if grid.max() > 0 else 100.0
     curve = blending.blend_wide(fame, fuel, np.union1d(grid, np.linspace(0, top, 51)))
     return {"diesel": fuel, "grid": grid, "targets": targets, "wide": wide, "highest": highest,
-            "curve": curve, "summary": blending.summary_table(highest) if targets else None}
+            "curve": curve, "summary": blend_targets.summary_table(highest) if targets else None}
 
 
 def _run_mix(scenario: Scenario, profile):

@@ -23,7 +23,7 @@ import time
 import numpy as np
 import pandas as pd
 
-from estimator import blending, mixing
+from estimator import blend_targets, blending, mixing
 from estimator.profiles.profile import Profile, oil_names
 
 BASE_OILS = ("rapeseed", "soybean", "palm", "sunflower-high-oleic", "used-cooking-oil",
@@ -79,8 +79,8 @@ def main() -> None:
     print(f"  total                    {total * 1e3:8.1f} ms  "
           f"({n_values / total / 1e6:.2f} M blends/s)")
 
-    target = [blending.Target("cfpp_C", "max", -12.0, "CFPP <= -12 °C")]
-    t_root, levels_found = best_of(lambda: blending.highest_levels(fame, diesel, target),
+    target = [blend_targets.Target("cfpp_C", "max", -12.0, "CFPP <= -12 °C")]
+    t_root, levels_found = best_of(lambda: blend_targets.highest_levels(fame, diesel, target),
                                    repeat=1)
     roots = int((levels_found["how"] == "root of the blend curve").sum())
     print(f"highest level meeting CFPP <= -12 °C for {args.fames} FAMEs (grid + {roots} brentq "

@@ -10,6 +10,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from estimator import blend_targets as bt
 from estimator import blending as b
 from estimator.errors import InputFileError, UnknownNameError, UsageError
 from estimator.profiles.profile import Profile, oil_names
@@ -359,33 +360,33 @@ def test_wide_table_has_value_and_error_columns_per_property():
 # ---------------------------------------------------------------- targets and levels
 def test_climate_class_f_sets_the_en590_cfpp_target():
     # EN 590 grade F: CFPP max -20 degC (standards.md 3.4, VERIFIED [S18]).
-    (target,) = b.blend_targets(climate_class="F", specs=())
+    (target,) = bt.blend_targets(climate_class="F", specs=())
     assert (target.property, target.kind, target.limit) == ("cfpp_C", "max", -20.0)
 
 
 def test_arctic_class_2_also_sets_a_cloud_point_target():
     # EN 590 arctic class 2: CFPP max -32, cloud point max -22 (standards.md 3.4 [S19][S17]).
-    got = {(t.property, t.limit) for t in b.blend_targets(climate_class="2", specs=())}
+    got = {(t.property, t.limit) for t in bt.blend_targets(climate_class="2", specs=())}
     assert got == {("cfpp_C", -32.0), ("cloud_point_C", -22.0)}
 
 
 def test_contradictory_cfpp_target_and_climate_class_are_refused():
     with pytest.raises(UsageError) as err:
-        b.blend_targets(max_cfpp_C=-10, climate_class="F")
+        bt.blend_targets(max_cfpp_C=-10, climate_class="F")
     assert str(err.value) == ("--max-cfpp -10 contradicts --climate-class F (EN 590 cfpp_C "
                               "max -20 °C); give one")
 
 
 def test_unknown_blend_specification_lists_the_valid_ones():
     with pytest.raises(UnknownNameError) as err:
-        b.blend_targets(specs=["en14214"])
+        bt.blend_targets(specs=["en14214"])
     assert str(err.value) == ("unknown blend specification 'en14214'; blend specifications: "
                               "en590, astm-d7467")
 
 
 def test_blend_spec_groups_carry_their_fame_content():
     # EN 590 up to 7 % V/V (standards.md 3.3 [S20]); D7467 B6-B20 (3.2 [S12]).
-    targets = b.blend_targets()
+    targets = bt.blend_targets()
     en590 = {(t.max_level_pct_v, t.min_level_pct_v) for t in targets if t.group == "en590"}
     d7467 = {(t.max_level_pct_v, t.min_level_pct_v) for t in targets if t.group == "astm-d7467"}
     assert en590 == {(7.0, 0.0)} and d7467 == {(20.0, 6.0)}
@@ -395,8 +396,8 @@ def test_highest_level_is_the_root_of_the_continuous_blend_curve():
     # Consistency (our arithmetic): the brentq level lies on the target and matches the
     # first crossing of a dense 0.001 % v/v grid; every lower level meets the target.
     fame, diesel = _fame(_neat(cfpp_C=5.0)), _diesel(cfpp_C=-24.0)
-    target = b.Target("cfpp_C", "max", -20.0, "CFPP <= -20")
-    row = b.highest_levels(fame, diesel, [target]).iloc[0]
+    target = bt.Target("cfpp_C", "max", -20.0, "CFPP <= -20")
+    row = bt.highest_levels(fame, diesel, [target]).iloc[0]
     level = row["highest_level_pct_v"]
     assert level == pytest.approx(100 * 4.0 / 29.0, abs=1e-5)  # linear: -24 + 29 phi = -20
     dense = np.linspace(0, 100, 100001)
@@ -407,7 +408,7 @@ def test_highest_level_is_the_root_of_the_continuous_blend_curve():
 
 def test_highest_level_when_the_diesel_alone_misses_the_target():
     fame, diesel = _fame(_neat()), _diesel(cfpp_C=-15.0)
-    row = b.highest_levels(fame, diesel, [b.Target("cfpp_C", "max", -20.0, "t")]).iloc[0]
+    row = bt.highest_levels(fame, diesel, [bt.Target("cfpp_C", "max", -20.0, "t")]).iloc[0]
     assert np.isnan(row["highest_level_pct_v"]) and row["how"] == "the diesel alone misses it"
 
 
@@ -415,7 +416,7 @@ def test_highest_level_for_a_specification_is_capped_at_its_fame_content():
     # EN 590 allows at most B7 (standards.md 3.3 [S20]) even when every limit holds beyond.
     profile = Profile.from_oils(["rapeseed"])
     fame = b.fame_component(profile.wt_pct, profile.samples)
-    levels = b.highest_levels(fame, b.load_diesel("en590-summer"), b.blend_targets())
+    levels = bt.highest_levels(fame, b.load_diesel("en590-summer"), bt.blend_targets())
     en590 = levels[(levels["group"] == "en590") & (levels["property"] == "all")].iloc[0]
     assert en590["highest_level_pct_v"] == 7.0
     assert en590["how"] == "capped at the B7 the specification allows"
@@ -423,8 +424,8 @@ def test_highest_level_for_a_specification_is_capped_at_its_fame_content():
 
 def test_summary_table_gives_the_highest_level_per_target_and_the_cautious_one():
     fame, diesel = _fame(_neat(cfpp_C=5.0)), _diesel(cfpp_C=-24.0)
-    table = b.summary_table(b.highest_levels(
-        fame, diesel, [b.Target("cfpp_C", "max", -20.0, "CFPP <= -20 °C")]))
+    table = bt.summary_table(bt.highest_levels(
+        fame, diesel, [bt.Target("cfpp_C", "max", -20.0, "CFPP <= -20 °C")]))
     assert list(table.columns) == ["sample", "CFPP <= -20 °C"]
     assert table.loc[0, "CFPP <= -20 °C"].startswith("B13.8 (B")
 

@@ -34,7 +34,7 @@ GAS_CONSTANT_J_MOL_K = 8.314462618
 ZERO_CELSIUS_K = 273.15
 
 # Ramos et al. 2009, CFPP against the long-chain saturated factor (MEMORY).
-RAMOS2009_SLOPE = 3.1417  # [degC per wt%]
+RAMOS2009_SLOPE = 3.1417  # [degC per wt %]
 RAMOS2009_INTERCEPT = -16.477  # [degC]
 
 # CFPP from cloud point, the two equations quoted in [S21] (VERIFIED).

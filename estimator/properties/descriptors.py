@@ -111,6 +111,17 @@ def basis_molar_mass(basis: str = "fame") -> np.ndarray:
     the simple triglyceride (acid - water + glycerol/3), i.e. the mass of oil that
     carries one mole of that acyl chain.
 
+    Parameters
+    ----------
+    basis : {'fame', 'fatty-acid', 'oil'}
+        Composition basis: methyl ester, free acid or triglyceride.
+
+    Returns
+    -------
+    ndarray, shape (n_species,)
+        Molar mass per acyl chain, in :func:`estimator.tables.species_keys`
+        order. [g/mol]
+
     Examples
     --------
     >>> from estimator.tables import species_keys
@@ -133,6 +144,17 @@ def iodine_value_factors(basis: str = "fame") -> np.ndarray:
     On the ``oil`` and ``fatty-acid`` bases these are the AOCS Cd 1c-85 factors
     (0.860 for C18:1 in triglycerides, 0.8986 as free acid); on the FAME basis they
     are the exact stoichiometric factors (0.8560 for methyl oleate).
+
+    Parameters
+    ----------
+    basis : {'fame', 'fatty-acid', 'oil'}
+        Composition basis: methyl ester, free acid or triglyceride.
+
+    Returns
+    -------
+    ndarray, shape (n_species,)
+        Iodine value contributed by one mass % of each species on ``basis``,
+        in :func:`estimator.tables.species_keys` order. [g I2/100 g per wt %]
 
     References
     ----------
@@ -158,6 +180,7 @@ def iodine_value(wt_pct: np.ndarray, basis: str = "fame") -> np.ndarray:
     wt_pct : ndarray, shape (n, n_species)
         Mass % on ``basis``. [wt %]
     basis : {'fame', 'fatty-acid', 'oil'}
+        Composition basis: methyl ester, free acid or triglyceride.
 
     Returns
     -------
@@ -182,6 +205,16 @@ def saponification_value(wt_pct: np.ndarray) -> np.ndarray:
 
     One mole of KOH per ester group (stoichiometry; correlations.md 3, DERIVED).
 
+    Parameters
+    ----------
+    wt_pct : ndarray, shape (n, n_species)
+        FAME mass %, columns in species-table order. [wt %]
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Saponification value. [mg KOH/g]
+
     Examples
     --------
     >>> import numpy as np
@@ -194,7 +227,20 @@ def saponification_value(wt_pct: np.ndarray) -> np.ndarray:
 
 
 def mean_molar_mass(wt_pct: np.ndarray, basis: str = "fame") -> np.ndarray:
-    """Number-average molar mass per acyl chain [g/mol]: 100 / sum(A_i / M_i)."""
+    """Number-average molar mass per acyl chain [g/mol]: 100 / sum(A_i / M_i).
+
+    Parameters
+    ----------
+    wt_pct : ndarray, shape (n, n_species)
+        Mass % on ``basis``, columns in species-table order. [wt %]
+    basis : {'fame', 'fatty-acid', 'oil'}
+        Composition basis: methyl ester, free acid or triglyceride.
+
+    Returns
+    -------
+    ndarray, shape (n,)
+        Mean molar mass per acyl chain on ``basis``. [g/mol]
+    """
     w = np.asarray(wt_pct, dtype=float)
     return w.sum(axis=1) / (w @ (1.0 / basis_molar_mass(basis)))
 
@@ -205,6 +251,12 @@ def lcsf_factors() -> np.ndarray:
     LCSF = 0.1 C16:0 + 0.5 C18:0 + 1 C20:0 + 1.5 C22:0 + 2 C24:0 (mass %).
     MEMORY (correlations.md 6.1): Ramos M.J., Fernandez C.M., Casas A., Rodriguez L.,
     Perez A., Bioresour. Technol. 100 (2009) 261-268, doi:10.1016/j.biortech.2008.06.039.
+
+    Returns
+    -------
+    ndarray, shape (n_species,)
+        Weight of each species in LCSF (zero except C16:0, C18:0, ..., C24:0), in
+        :func:`estimator.tables.species_keys` order. [1]
     """
     keys = species_keys()
     out = np.zeros(len(keys))
@@ -248,7 +300,14 @@ def _linear_factors() -> dict[str, np.ndarray]:
 
 
 def linear_factors() -> dict[str, np.ndarray]:
-    """Factor vectors of the descriptors that are linear in FAME mass %: d = wt_pct @ f."""
+    """Factor vectors of the descriptors that are linear in FAME mass %: d = wt_pct @ f.
+
+    Returns
+    -------
+    dict of str to ndarray, shape (n_species,)
+        One factor vector per linear descriptor, keyed like
+        :data:`DESCRIPTOR_UNITS`; each factor is that descriptor's unit per wt %.
+    """
     return dict(_linear_factors())
 
 
@@ -301,6 +360,18 @@ def convert_basis(wt_pct: np.ndarray, source: str, target: str) -> np.ndarray:
 
     Exact mass conversion: moles of acyl chain ``A_i / M_i(source)`` are carried
     over and weighed with ``M_i(target)``, then renormalised to 100.
+
+    Parameters
+    ----------
+    wt_pct : ndarray, shape (n, n_species)
+        Mass % on ``source``, columns in species-table order. [wt %]
+    source, target : {'fame', 'fatty-acid', 'oil'}
+        Bases of the input and of the output.
+
+    Returns
+    -------
+    ndarray, shape (n, n_species)
+        Mass % on ``target``, rows summing to 100. [wt %]
 
     Examples
     --------

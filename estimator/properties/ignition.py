@@ -114,7 +114,7 @@ def bamgboye2008_coefficients():
         :math:`a_i` in :func:`estimator.tables.species_keys` order; zero for
         species outside the model, so ``intercept + wt_pct @ coefficients``
         is the correlation and the vector can be used directly as a row of a
-        linear programme. [1/wt%]
+        linear programme. [per wt %]
 
     Notes
     -----

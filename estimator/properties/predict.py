@@ -179,7 +179,7 @@ def estimate(
     wt_pct : ndarray or DataFrame
         FAME mass %, shape ``(n_samples, n_species)`` in species-table order
         (a DataFrame is reordered by its species columns), rows summing to
-        100 within 0.5. [wt%]
+        100 within 0.5. [wt %]
     samples : sequence
         One unique id per row.
     methods : {'default', 'all'} or mapping, optional

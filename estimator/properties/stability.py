@@ -18,7 +18,7 @@ __all__ = [
 ]
 
 # Park et al. 2008, Rancimat induction period against C18:2 + C18:3 (MEMORY).
-PARK2008_A = 117.9295  # [h wt%]
+PARK2008_A = 117.9295  # [h wt %]
 PARK2008_B = 2.5905  # [h]
 #: X range spanned by the blends Park et al. fitted (palm, rapeseed and soybean
 #: esters): DERIVED from the typical profiles of standards.md 4.2 (palm 9.8,

@@ -77,7 +77,7 @@ def blend_curves(
     bands : bool, optional
         Shade value ± stated error (default: when at most three samples are drawn).
     highest : DataFrame, optional
-        From :func:`estimator.blending.highest_levels`: the highest level meeting each
+        From :func:`estimator.blend_targets.highest_levels`: the highest level meeting each
         user target is marked on the target line with the sample's marker.
 
     Returns

@@ -54,7 +54,7 @@ def blend_sections(
     wide : DataFrame
         From :func:`estimator.blending.blend_wide`.
     highest : DataFrame or None
-        From :func:`estimator.blending.highest_levels`.
+        From :func:`estimator.blend_targets.highest_levels`.
     diesel : Diesel
         The diesel blended into.
     figure : matplotlib Figure, optional

@@ -9,6 +9,7 @@ import pytest
 
 pytest.importorskip("matplotlib")
 
+from estimator import blend_targets as bt  # noqa: E402
 from estimator import blending as b  # noqa: E402
 from estimator import mixing as m  # noqa: E402
 from estimator.profiles.io import read_profile  # noqa: E402
@@ -22,9 +23,9 @@ def _curves(oils=("rapeseed", "palm"), **target_options):
     profile = Profile.from_oils(list(oils))
     fame = b.fame_component(profile.wt_pct, profile.samples)
     diesel = b.load_diesel(str(DEMO / "diesel_winter.json"))  # invented demo diesel
-    targets = b.blend_targets(**target_options)
+    targets = bt.blend_targets(**target_options)
     wide = b.blend_wide(fame, diesel, np.linspace(0, 30, 31))
-    return wide, targets, b.highest_levels(fame, diesel, targets), diesel
+    return wide, targets, bt.highest_levels(fame, diesel, targets), diesel
 
 
 def _texts(fig) -> list[str]:
