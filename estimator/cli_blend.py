@@ -84,19 +84,6 @@ def _save_png(fig, path: str) -> None:
     click.echo(f"wrote {written}", err=True)
 
 
-def _pm(value: float, error: float) -> str:
-    import math
-
-    if value != value:
-        return "-"
-    mag = abs(value)
-    decimals = 0 if mag >= 100 else 1 if mag >= 1 else 2
-    if error == error and error > 0:
-        decimals = min(2, max(decimals, -math.floor(math.log10(error))))
-        return f"{value:.{decimals}f} ± {error:.{decimals}f}"
-    return f"{value:.{decimals}f}"
-
-
 # ---------------------------------------------------------------- blend
 @click.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.argument("inputs", nargs=-1, type=click.Path(dir_okay=False))

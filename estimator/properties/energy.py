@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from estimator.properties.per_ester import mass_weighted, tabulated_or_fallback
 from estimator.tables import species_column
 
 __all__ = [
@@ -246,7 +247,7 @@ def ramirezverduzco2012(wt_pct):
     hhv_i = ramirezverduzco2012_ester(
         species_column("fame_molar_mass_g_mol"), species_column("double_bonds")
     )
-    return np.asarray(wt_pct, dtype=float) @ hhv_i / 100.0
+    return mass_weighted(wt_pct, hhv_i)
 
 
 def pure_ester_hhv():
@@ -285,12 +286,7 @@ def pure_ester_hhv():
     >>> float(hhv[species_keys().index("C16:0")]), bool(tab[species_keys().index("C20:1")])
     (39.76, False)
     """
-    table = species_column("hhv_MJ_kg")
-    tabulated = np.isfinite(table)
-    fallback = ramirezverduzco2012_ester(
-        species_column("fame_molar_mass_g_mol"), species_column("double_bonds")
-    )
-    return np.where(tabulated, table, fallback), tabulated
+    return tabulated_or_fallback("hhv_MJ_kg", ramirezverduzco2012_ester)
 
 
 def kay1936(wt_pct):
@@ -339,7 +335,7 @@ def kay1936(wt_pct):
     39.885
     """
     hhv_i, _ = pure_ester_hhv()
-    return np.asarray(wt_pct, dtype=float) @ hhv_i / 100.0
+    return mass_weighted(wt_pct, hhv_i)
 
 
 def lhv_from_hhv(hhv_MJ_kg, hydrogen_wt_pct):

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from estimator.properties.per_ester import mass_weighted, tabulated_or_fallback
 from estimator.tables import species_column, species_keys
 
 __all__ = [
@@ -278,7 +279,7 @@ def ramirezverduzco2012(wt_pct):
     cn_i = ramirezverduzco2012_ester(
         species_column("fame_molar_mass_g_mol"), species_column("double_bonds")
     )
-    return np.asarray(wt_pct, dtype=float) @ cn_i / 100.0
+    return mass_weighted(wt_pct, cn_i)
 
 
 def pure_ester_cetane_numbers():
@@ -318,12 +319,7 @@ def pure_ester_cetane_numbers():
     >>> float(cn[species_keys().index("C18:1")]), bool(tab[species_keys().index("C24:0")])
     (59.3, False)
     """
-    table = species_column("cetane_number")
-    tabulated = np.isfinite(table)
-    fallback = ramirezverduzco2012_ester(
-        species_column("fame_molar_mass_g_mol"), species_column("double_bonds")
-    )
-    return np.where(tabulated, table, fallback), tabulated
+    return tabulated_or_fallback("cetane_number", ramirezverduzco2012_ester)
 
 
 def klopfenstein1985(wt_pct):
@@ -371,4 +367,4 @@ def klopfenstein1985(wt_pct):
     66.9
     """
     cn_i, _ = pure_ester_cetane_numbers()
-    return np.asarray(wt_pct, dtype=float) @ cn_i / 100.0
+    return mass_weighted(wt_pct, cn_i)

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from estimator.properties.per_ester import tabulated_or_fallback
 from estimator.tables import species_column
 
 __all__ = [
@@ -710,12 +711,7 @@ def pure_ester_kin_viscosity_40C():
     >>> float(nu[species_keys().index("C22:6")]), bool(tab[species_keys().index("C20:0")])
     (2.97, False)
     """
-    table = species_column("kin_viscosity_40C_mm2_s")
-    tabulated = np.isfinite(table)
-    fallback = ramirezverduzco2012_viscosity_ester(
-        species_column("fame_molar_mass_g_mol"), species_column("double_bonds")
-    )
-    return np.where(tabulated, table, fallback), tabulated
+    return tabulated_or_fallback("kin_viscosity_40C_mm2_s", ramirezverduzco2012_viscosity_ester)
 
 
 def allen1999(wt_pct, temperature_C=40.0):

@@ -35,8 +35,10 @@ _SHORT = {
 
 
 def _pm_column(values, errors, decimals: int) -> list[str]:
-    return [f"{v:.{decimals}f} ± {e:.{decimals}f}" if e > 0 else f"{v:.{decimals}f}"
-            for v, e in zip(values, errors)]
+    from estimator.report.html import _no_minus_zero
+
+    return [f"{_no_minus_zero(v, decimals)} ± {e:.{decimals}f}" if e > 0
+            else _no_minus_zero(v, decimals) for v, e in zip(values, errors)]
 
 
 def blend_sections(

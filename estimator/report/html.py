@@ -227,8 +227,14 @@ def plus_minus(value: float, error: float) -> str:
     decimals = 0 if mag >= 100 else 1 if mag >= 1 else 2
     if error == error and error > 0:
         decimals = min(2, max(decimals, -math.floor(math.log10(error))))
-        return f"{value:.{decimals}f} ± {error:.{decimals}f}"
-    return f"{value:.{decimals}f}"
+        return f"{_no_minus_zero(value, decimals)} ± {error:.{decimals}f}"
+    return _no_minus_zero(value, decimals)
+
+
+def _no_minus_zero(value: float, decimals: int) -> str:
+    """``-0.0`` prints as ``0.0``."""
+    text = f"{value:.{decimals}f}"
+    return text[1:] if text.startswith("-") and float(text) == 0 else text
 
 
 def summary_section(comparison) -> Section:

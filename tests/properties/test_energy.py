@@ -133,3 +133,16 @@ def test_lhv_constants():
     # M(H2O)/(2 M(H)) = 18.015 / 2.016 = 8.936 (IUPAC 2021 atomic weights)
     assert energy.WATER_LATENT_HEAT_25C_MJ_KG == pytest.approx(44.01 / 18.015, abs=2e-3)
     assert energy.WATER_PER_HYDROGEN == pytest.approx(18.015 / 2.016, abs=2e-3)
+
+
+def test_pure_ester_values_fall_back_to_the_per_ester_form_only_where_untabulated():
+    # Adriaanse et al. 1965, Recl. Trav. Chim. Pays-Bas 84:393: C16:0 653.8*16 + 292.6 kJ/mol
+    from estimator.properties.energy import pure_ester_hhv, ramirezverduzco2012_ester
+    from estimator.tables import species_column, species_keys
+
+    hhv, tabulated = pure_ester_hhv()
+    i = species_keys().index("C16:0")
+    assert tabulated[i] and hhv[i] == pytest.approx((653.8 * 16 + 292.6) / 270.457, abs=0.01)
+    fallback = ramirezverduzco2012_ester(species_column("fame_molar_mass_g_mol"),
+                                         species_column("double_bonds"))
+    np.testing.assert_array_equal(hhv[~tabulated], fallback[~tabulated])
