@@ -82,6 +82,9 @@ def predict(inputs, oils, basis, sum_tolerance, methods, temperatures, models, o
     """
     from estimator.workflows import predict as run_predict
 
+    if output and methods == "default":
+        _predict_to_file(inputs, oils, basis, sum_tolerance, temperatures, models, output)
+        return
     profile = load_inputs(inputs, oils, basis, sum_tolerance)
     result = run_predict(profile, methods=methods, temperatures_C=temperatures, models=models)
     if methods == "all":
@@ -100,6 +103,40 @@ def predict(inputs, oils, basis, sum_tolerance, methods, temperatures, models, o
         emit(result.wide, output)
     else:
         emit(_wide_for_terminal(result.wide), None, footer=footer)
+
+
+def _predict_to_file(inputs, oils, basis, sum_tolerance, temperatures, models, output) -> None:
+    """Read, estimate and write in pieces (flat memory); a progress bar on a terminal."""
+    import os
+
+    from estimator.errors import UsageError
+    from estimator.predict_files import predict_to_file
+
+    if not inputs and not oils:
+        raise UsageError("give at least one INPUT file or --oil NAME (see --help)")
+    kwargs = {"oils": oils, "basis": basis, "sum_tolerance": sum_tolerance,
+              "temperatures_C": temperatures, "models": models}
+    size = sum(os.path.getsize(p) for p in inputs if os.path.isfile(p))
+    if sys.stderr.isatty() and size > 4_000_000:
+        with click.progressbar(length=size, label="estimating", file=sys.stderr,
+                               show_eta=True) as bar:
+            per_row = size / max(1, _count_lines(inputs))
+            rows = predict_to_file(inputs, output, progress=lambda n: bar.update(int(n * per_row)),
+                                   **kwargs)
+    else:
+        rows = predict_to_file(inputs, output, **kwargs)
+    click.echo(f"wrote {output} ({rows} rows)", err=True)
+
+
+def _count_lines(paths) -> int:
+    import os
+
+    lines = 0
+    for p in paths:
+        if os.path.isfile(p):
+            with open(p, "rb") as fh:
+                lines += sum(block.count(b"\n") for block in iter(lambda: fh.read(1 << 20), b""))
+    return lines
 
 
 def _wide_for_terminal(table):

@@ -41,9 +41,25 @@ def _cold_options(func):
     return func
 
 
+#: Output suffixes whose extra tables go to ``<stem>_<tag>`` sibling files.
+_SIDECAR_SUFFIXES = (".csv", ".tsv", ".json")
+
+
 def _sidecar(output: str, tag: str) -> Path:
     path = Path(output)
     return path.with_name(f"{path.stem}_{tag}{path.suffix}")
+
+
+def _check_outputs(output: str | None, tags, *side_files: str | None) -> None:
+    """Refuse, before anything is written, any planned file that is one of the inputs."""
+    from estimator.files import check_outputs
+
+    planned: list = list(side_files)
+    if output:
+        planned.append(output)
+        if Path(output).suffix.lower() in _SIDECAR_SUFFIXES:
+            planned += [_sidecar(output, tag) for tag in tags]
+    check_outputs(planned)
 
 
 def _write(frame, output: str, *, footer: str, extra: dict) -> None:
@@ -54,7 +70,7 @@ def _write(frame, output: str, *, footer: str, extra: dict) -> None:
     import pandas as pd
 
     from estimator.cautions import CAUTION, CAUTION_SHORT
-    from estimator.report.tables import write_table
+    from estimator.files import write_table
 
     suffix = Path(output).suffix.lower()
     if suffix == ".xlsx":
@@ -63,7 +79,7 @@ def _write(frame, output: str, *, footer: str, extra: dict) -> None:
         emit(frame, output, footer=footer, sheets=sheets)
         return
     emit(frame.assign(caution=CAUTION_SHORT), output, footer="", sheets=None)
-    if suffix in (".csv", ".json"):
+    if suffix in _SIDECAR_SUFFIXES:
         for tag, table in extra.items():
             path = write_table(table.assign(caution=CAUTION_SHORT), _sidecar(output, tag))
             click.echo(f"wrote {path} ({len(table)} rows)", err=True)
@@ -78,7 +94,7 @@ def _check_side_files(plot: str | None, report_path: str | None) -> None:
 
 
 def _save_png(fig, path: str) -> None:
-    from estimator.report.tables import atomic_write
+    from estimator.files import atomic_write
 
     written = atomic_write(path, lambda tmp: fig.savefig(tmp, format="png", dpi=150))
     click.echo(f"wrote {written}", err=True)
@@ -147,6 +163,7 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
     summary = _summary_text(blend_targets.summary_table(highest)) if highest is not None else ""
     footer = _blend_footer(fuel)
+    _check_outputs(output, ["levels"] if highest is not None else [], plot, report_path)
     if plot or report_path:
         from estimator.report.blend_plots import blend_curves
 
@@ -292,6 +309,8 @@ def mix(input_file, basis, sum_tolerance, spec, max_cfpp, max_cloud_point, clima
         methods=methods, spec=spec, climate_class=climate_class,
     )
     footer = _mix_footer(result)
+    _check_outputs(output, list(_mix_extras(result)) if result.feasible else [], plot,
+                   report_path)
     if plot or report_path:
         from estimator.report.blend_plots import mix_shares
 

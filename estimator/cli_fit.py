@@ -60,6 +60,11 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
 
     if output and Path(output).suffix.lower() != ".json":
         raise UsageError(f"-o {output}: a model file must end in .json")
+    if output:
+        from estimator.files import check_outputs
+        from estimator.report.fit_sections import report_folder
+
+        check_outputs([output], folders=[] if no_report else [report_folder(output)])
     for prop in properties:
         check_property(prop)
     profile = read_profile(lab_file, basis=basis, sum_tolerance=sum_tolerance,

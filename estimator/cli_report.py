@@ -25,11 +25,13 @@ def report(scenario_file, outdir) -> None:
       fame-estimator report data/demo/scenario.json -o out/demo
     """
     from estimator.cautions import CAUTION_SHORT
+    from estimator.files import protect_inputs
     from estimator.report.scenario_report import write_scenario
     from estimator.report.tables import format_table
     from estimator.scenario import read_scenario, run_scenario
 
     scenario = read_scenario(scenario_file)
+    protect_inputs(scenario.input_files())
     result = run_scenario(scenario, progress=lambda text: click.echo(f"... {text}", err=True))
     written = write_scenario(result, outdir)
     ranked = result.comparison.ranked

@@ -20,10 +20,12 @@ def invoke_reporting(ctx: click.Context, invoke):
     is set.
     """
     from estimator.errors import EstimatorError
+    from estimator.files import guard_inputs
 
     try:
-        _refuse_overwriting_inputs(ctx)
-        return invoke()
+        with guard_inputs(_input_paths(ctx)):
+            _refuse_overwriting_inputs(ctx)
+            return invoke()
     except BrokenPipeError:
         # the reader went away (e.g. piped into head): stop quietly
         sys.stderr.close()
@@ -53,25 +55,26 @@ def invoke_reporting(ctx: click.Context, invoke):
 OUTPUT_PARAMS = ("output", "outdir", "plot", "report_path")
 
 
+def _paths(value) -> list[Path]:
+    values = value if isinstance(value, (tuple, list)) else (value,)
+    return [Path(v) for v in values if isinstance(v, str) and v]
+
+
+def _input_paths(ctx: click.Context) -> list[Path]:
+    """Every existing file named by a parameter that is not an output."""
+    return [p for name, value in ctx.params.items() if name not in OUTPUT_PARAMS
+            for p in _paths(value) if p.is_file()]
+
+
 def _refuse_overwriting_inputs(ctx: click.Context) -> None:
-    """An output that is one of the command's own input files is a usage error."""
-    from estimator.errors import UsageError
+    """An output file named on the command line that is one of its inputs is a usage error.
 
-    def paths(value) -> list[Path]:
-        values = value if isinstance(value, (tuple, list)) else (value,)
-        return [Path(v) for v in values if isinstance(v, str) and v]
+    Side files and folder contents are checked by each command before it writes
+    (:func:`estimator.files.check_outputs`), and every atomic write checks again.
+    """
+    from estimator.files import check_outputs
 
-    inputs = {
-        p.resolve() for name, value in ctx.params.items() if name not in OUTPUT_PARAMS
-        for p in paths(value) if p.is_file()
-    }
-    for name in OUTPUT_PARAMS:
-        for out in paths(ctx.params.get(name)):
-            if out.resolve() in inputs:
-                raise UsageError(
-                    f"{out.name} is one of this command's inputs: refusing to overwrite it; "
-                    "choose another output file"
-                )
+    check_outputs(p for name in OUTPUT_PARAMS for p in _paths(ctx.params.get(name)))
 
 
 class ReportingCommand(click.Command):
@@ -123,7 +126,8 @@ def emit(frame, output: str | None, *, title: str = "", footer: str = "", sheets
     On the terminal, free-text columns (``notes``, ``flags``) are listed under the
     table, one line per sample, instead of widening it.
     """
-    from estimator.report.tables import format_table, write_table
+    from estimator.files import write_table
+    from estimator.report.tables import format_table
 
     if output:
         path = write_table(frame, output, sheets=sheets)

@@ -62,6 +62,12 @@ class Scenario:
         p = Path(name)
         return p if p.is_absolute() else self.path.parent / p
 
+    def input_files(self) -> list[Path]:
+        """The scenario file and every file it names (lots, diesel, lab), resolved."""
+        names = [self.lots.get("file"), (self.blend or {}).get("diesel"),
+                 (self.lab or {}).get("file")]
+        return [self.path, *(self.resolve(n) for n in names if isinstance(n, str) and n)]
+
 
 @dataclass
 class ScenarioResult:

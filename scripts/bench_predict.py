@@ -1,16 +1,28 @@
-"""Benchmark the descriptor layer and the whole ``predict`` run on a CSV.
+"""Benchmark the whole ``fame-estimator predict FILE -o OUT`` command against reading FILE.
 
-Prints descriptor throughput (profiles per second) and the ratio of reading +
-validating + estimating a CSV of N random profiles to plain ``pandas.read_csv``
-of the same file (output writing is timed separately, since it is the same for
-any tool that writes CSV).
+For each size, writes a CSV of N random profiles (sample + 10 main species), then runs
+as separate processes, each timed from start to exit with its peak memory (max RSS):
 
-Usage: ``python scripts/bench_predict.py [--n 1000000] [--csv-n 200000]``
+* the baseline ``python -c "import pandas; pandas.read_csv(FILE)"``;
+* ``python -m estimator predict FILE -o out.csv`` (reading, checking, estimating and
+  writing, start-up included);
+* at the XLSX size, ``predict FILE -o out.xlsx``.
+
+It prints the ratio of each command to the baseline (goals: CSV <= 3x at 200k and 1M
+rows with peak memory <= 1.5x; XLSX <= 5x at 10k rows) and the machine it ran on.
+Times are the best of ``--repeat`` runs. ``--breakdown`` also times the parts in one
+process (start-up, read, estimate, write) to show where the time goes.
+
+Usage: ``python scripts/bench_predict.py [--sizes 10000,200000,1000000] [--repeat 3]``
 """
 
 from __future__ import annotations
 
 import argparse
+import os
+import platform
+import subprocess
+import sys
 import tempfile
 import time
 from pathlib import Path
@@ -18,15 +30,13 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from estimator.profiles.io import read_profile
-from estimator.properties.descriptors import descriptors
 from estimator.tables import species_keys
-from estimator.workflows import predict
 
 MAIN = ["C16:0", "C18:0", "C18:1", "C18:2", "C18:3", "C20:0", "C20:1", "C22:0", "C14:0", "C12:0"]
 
 
 def random_profiles(n: int, seed: int = 1) -> np.ndarray:
+    """``n`` random compositions over every species key (mass %, the 10 main species)."""
     rng = np.random.default_rng(seed)
     keys = species_keys()
     w = np.zeros((n, len(keys)))
@@ -35,51 +45,117 @@ def random_profiles(n: int, seed: int = 1) -> np.ndarray:
     return w
 
 
-def best_of(fn, repeat: int = 3) -> float:
-    times = []
-    for _ in range(repeat):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return min(times)
+def write_profiles(path: Path, n: int, seed: int = 2) -> None:
+    """A CSV of ``n`` random profiles: sample, then the 10 main species to 4 decimals."""
+    keys = species_keys()
+    w = random_profiles(n, seed=seed)
+    frame = pd.DataFrame(w[:, [keys.index(k) for k in MAIN]], columns=MAIN)
+    frame.insert(0, "sample", [f"s{i}" for i in range(n)])
+    frame.to_csv(path, index=False, float_format="%.4f")
+
+
+def run(cmd: list[str]) -> tuple[float, float]:
+    """Wall time [s] and peak resident memory [MB] of one process."""
+    t0 = time.perf_counter()
+    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    _, status, usage = os.wait4(proc.pid, 0)
+    elapsed = time.perf_counter() - t0
+    proc.returncode = os.waitstatus_to_exitcode(status)
+    err = proc.stderr.read().decode(errors="replace")
+    proc.stderr.close()
+    if proc.returncode != 0:
+        raise SystemExit(f"{' '.join(cmd)} failed ({proc.returncode}): {err.strip()}")
+    return elapsed, usage.ru_maxrss / 1024  # Linux reports kB
+
+
+def best(cmd: list[str], repeat: int) -> tuple[float, float]:
+    """Best time and the peak memory of that run, over ``repeat`` runs."""
+    return min(run(cmd) for _ in range(repeat))
+
+
+def machine() -> str:
+    """CPU model, cores, memory and Python/NumPy/pandas versions."""
+    cpu = platform.processor() or platform.machine()
+    try:
+        for line in Path("/proc/cpuinfo").read_text().splitlines():
+            if line.startswith("model name"):
+                cpu = line.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    mem = ""
+    try:
+        kb = int(Path("/proc/meminfo").read_text().split()[1])
+        mem = f", {kb / 1024 ** 2:.0f} GB RAM"
+    except (OSError, ValueError, IndexError):
+        pass
+    try:
+        load = f" load {os.getloadavg()[0]:.1f}"
+    except OSError:
+        load = ""
+    try:
+        import pyarrow
+
+        arrow = f", pyarrow {pyarrow.__version__}"
+    except ImportError:
+        arrow = ", no pyarrow"
+    return (f"{cpu}, {os.cpu_count()} cores{mem},{load}; Python {platform.python_version()}, "
+            f"NumPy {np.__version__}, pandas {pd.__version__}{arrow}")
+
+
+def breakdown(path: Path, out: Path) -> str:
+    """Times of the parts of one predict run, in this process."""
+    from estimator.files import write_table
+    from estimator.profiles.io import read_profile
+    from estimator.workflows import predict
+
+    t0 = time.perf_counter()
+    profile = read_profile(path)
+    t1 = time.perf_counter()
+    table = predict(profile).wide
+    t2 = time.perf_counter()
+    write_table(table, out)
+    t3 = time.perf_counter()
+    return (f"  in one process: read + check {t1 - t0:.2f} s, estimate {t2 - t1:.2f} s, "
+            f"write CSV {t3 - t2:.2f} s")
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--n", type=int, default=1_000_000,
-                        help="profiles for the descriptor layer")
-    parser.add_argument("--csv-n", type=int, default=200_000, help="profiles in the CSV run")
+    parser.add_argument("--sizes", default="10000,200000,1000000",
+                        help="comma-separated numbers of profiles")
+    parser.add_argument("--xlsx-size", type=int, default=10_000,
+                        help="profiles in the XLSX run (0: skip)")
+    parser.add_argument("--repeat", type=int, default=3, help="runs per command (best taken)")
+    parser.add_argument("--breakdown", action="store_true",
+                        help="also time read, estimate and write in one process")
     args = parser.parse_args()
-
-    w = random_profiles(args.n)
-    t = best_of(lambda: descriptors(w))
-    print(f"descriptor layer: {args.n:,} profiles in {t:.3f} s = {args.n / t:,.0f} profiles/s")
-
-    keys = species_keys()
-    wc = random_profiles(args.csv_n, seed=2)
-    frame = pd.DataFrame(wc[:, [keys.index(k) for k in MAIN]], columns=MAIN)
-    frame.insert(0, "sample", [f"s{i}" for i in range(args.csv_n)])
+    sizes = [int(s) for s in args.sizes.split(",") if s.strip()]
+    py = sys.executable
+    print(f"machine: {machine()}")
+    print(f"{'rows':>9}  {'read_csv':>9}  {'predict -o csv':>15}  {'ratio':>6}  "
+          f"{'peak MB (base / predict)':>25}  {'ratio':>6}")
     with tempfile.TemporaryDirectory() as tmp:
-        path = Path(tmp) / "profiles.csv"
-        frame.to_csv(path, index=False, float_format="%.4f")
-        t_read = best_of(lambda: pd.read_csv(path))
-        result = {}
-
-        def run() -> None:
-            result["table"] = predict(read_profile(path)).wide
-
-        t_run = best_of(run)
-        profile = read_profile(path)
-        t_profile = best_of(lambda: read_profile(path))
-        t_estimate = best_of(lambda: predict(profile))
-        out = Path(tmp) / "out.csv"
-        t_write = best_of(lambda: result["table"].to_csv(out, index=False, float_format="%.6g"), 1)
-    print(f"CSV of {args.csv_n:,} profiles: pandas.read_csv {t_read:.3f} s; "
-          f"read + validate + predict {t_run:.3f} s; ratio {t_run / t_read:.2f}x "
-          f"(aim <= 3x); writing the output CSV {t_write:.3f} s")
-    print(f"  of which: read + validate {t_profile:.3f} s ({t_profile / t_read:.2f}x read_csv); "
-          f"estimates, descriptors, flags {t_estimate:.3f} s "
-          f"({args.csv_n / t_estimate:,.0f} profiles/s)")
+        for n in sorted(set(sizes + ([args.xlsx_size] if args.xlsx_size else []))):
+            path = Path(tmp) / f"profiles_{n}.csv"
+            write_profiles(path, n)
+            base_t, base_m = best([py, "-c", f"import pandas; pandas.read_csv({str(path)!r})"],
+                                  args.repeat)
+            if n in sizes:
+                out = Path(tmp) / "out.csv"
+                t, m = best([py, "-m", "estimator", "predict", str(path), "-o", str(out)],
+                            args.repeat)
+                print(f"{n:>9,}  {base_t:>8.2f}s  {t:>14.2f}s  {t / base_t:>5.1f}x  "
+                      f"{base_m:>11.0f} / {m:>11.0f}  {m / base_m:>5.2f}x", flush=True)
+                if args.breakdown:
+                    print(breakdown(path, out), flush=True)
+            if n == args.xlsx_size:
+                out = Path(tmp) / "out.xlsx"
+                t, m = best([py, "-m", "estimator", "predict", str(path), "-o", str(out)],
+                            args.repeat)
+                print(f"{n:>9,}  {base_t:>8.2f}s  {t:>11.2f}s xlsx  {t / base_t:>5.1f}x  "
+                      f"{base_m:>11.0f} / {m:>11.0f}  {m / base_m:>5.2f}x  (goal <= 5x)",
+                      flush=True)
 
 
 if __name__ == "__main__":

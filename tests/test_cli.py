@@ -172,7 +172,7 @@ def test_an_output_that_is_an_input_is_refused(tmp_path):
     result = run("predict", str(lots), "-o", str(lots))
     assert result.exit_code == 2
     assert result.output == (
-        "fame-estimator: error: lots.csv is one of this command's inputs: refusing to "
-        "overwrite it; choose another output file\n"
+        f"fame-estimator: error: writing {lots} would overwrite the input {lots}: nothing "
+        "written; choose another output name or folder\n"
     )
     assert lots.read_bytes() == before

@@ -32,7 +32,7 @@ from estimator.errors import InputFileError, ProfileError
 from estimator.profiles.names import OTHER, canonical_species, is_species_like
 from estimator.profiles.profile import DEFAULT_SUM_TOLERANCE, Profile
 
-__all__ = ["read_profile", "read_table"]
+__all__ = ["read_profile", "read_profile_chunks", "read_table"]
 
 SAMPLE_COLUMNS = ("sample", "sample_id", "sample id", "id", "lot", "lot_id", "lot id", "name")
 LONG_SPECIES = ("species", "component", "compound", "fatty_acid", "fatty acid", "fame", "peak")
@@ -343,3 +343,71 @@ def _maybe_numeric(column: pd.Series) -> pd.Series:
     if (parsed.notna() == filled).all() and filled.any():
         return parsed
     return column
+
+
+#: Text files smaller than this are read whole by :func:`read_profile_chunks`. [bytes]
+CHUNKED_MIN_BYTES = 4_000_000
+
+
+def read_profile_chunks(
+    path: str | Path,
+    *,
+    basis: str = "fame",
+    sum_tolerance: float = DEFAULT_SUM_TOLERANCE,
+    chunk_rows: int = 50_000,
+    min_bytes: int = CHUNKED_MIN_BYTES,
+):
+    """Yield the profile of a file in pieces of at most ``chunk_rows`` samples.
+
+    A large wide CSV/TSV file with a sample-id column (``sample``, ``lot`` ...) is read
+    piece by piece, so memory stays flat however many rows it has; every other file
+    (small, long layout, XLSX, JSON, no sample-id column) is read whole and yielded
+    once (so are files under ``min_bytes``). Each piece is checked as :func:`read_profile`
+    checks the whole file, with the file's own row numbers; sample ids repeated across
+    pieces are the caller's to find.
+    """
+    path = Path(path)
+    label = path.name
+    whole = (
+        path.suffix.lower() not in TEXT_SUFFIXES or not path.is_file()
+        or path.stat().st_size < min_bytes
+    )
+    options = None if whole else _chunk_options(path)
+    if options is None:
+        yield read_profile(path, basis=basis, sum_tolerance=sum_tolerance)
+        return
+    first_row = 2
+    try:
+        reader = pd.read_csv(path, **options, chunksize=chunk_rows)
+        for table in reader:
+            table.columns = [str(c).strip() for c in table.columns]
+            rows = np.arange(first_row, first_row + len(table))
+            first_row += len(table)
+            yield _wide_to_profile(table, rows, label, basis, sum_tolerance, ())
+    except UnicodeDecodeError:
+        raise InputFileError(f"{label}: not a UTF-8 text file (near row {first_row})") from None
+    except pd.errors.ParserError as exc:
+        msg = str(exc).strip().splitlines()[-1]
+        raise InputFileError(f"{label}: cannot parse the table ({msg})") from None
+
+
+def _chunk_options(path: Path) -> dict | None:
+    """read_csv options for reading ``path`` in pieces, or None to read it whole."""
+    try:
+        with path.open("r", encoding="utf-8-sig", newline="") as fh:
+            head = fh.readline()
+    except UnicodeDecodeError:
+        return None  # read_profile reports it
+    counts = {sep: head.count(sep) for sep in (";", "\t", ",")}
+    sep = max(counts, key=lambda s: counts[s])
+    if counts[sep] == 0:
+        return None
+    columns = [c.strip().strip('"').strip() for c in head.rstrip("\r\n").split(sep)]
+    lowered = {c.lower() for c in columns}
+    if len(set(columns)) != len(columns) or not lowered & set(SAMPLE_COLUMNS):
+        return None
+    if lowered & set(LONG_SPECIES) and lowered & set(LONG_VALUE):
+        return None  # long layout: a sample's rows may straddle pieces
+    decimal = "," if sep in (";", "\t") and _uses_decimal_comma(path, sep) else "."
+    return {"sep": sep, "decimal": decimal, "encoding": "utf-8-sig", "keep_default_na": False,
+            "na_values": [""], "skipinitialspace": True}

@@ -233,7 +233,7 @@ def save_models(
     models: Sequence[FittedModel], path: str | Path, training: Mapping
 ) -> Path:
     """Write models (one per property) to one JSON model file, atomically."""
-    from estimator.report.tables import atomic_write
+    from estimator.files import atomic_write
 
     doc = model_document(models, training)
     validate_document(doc, Path(path).name)  # never write what we could not read back

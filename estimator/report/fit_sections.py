@@ -141,10 +141,10 @@ def write_fit_report(fits: Sequence, model_path: str | Path, *, table: pd.DataFr
     the plots. Returns the folder.
     """
     from estimator.cautions import CAUTION_SHORT
+    from estimator.files import write_table
     from estimator.report.fit_plots import fit_figures
     from estimator.report.html import build_report
     from estimator.report.plots import save_figure
-    from estimator.report.tables import write_table
 
     model_path = Path(model_path)
     folder = report_folder(model_path)

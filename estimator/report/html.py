@@ -204,7 +204,7 @@ def build_report(
     caution: str = CAUTION,
 ) -> Path:
     """Write one self-contained HTML report of ``sections`` to ``path`` (atomically)."""
-    from estimator.report.tables import atomic_write
+    from estimator.files import atomic_write
 
     text = render_report(title, sections, subtitle=subtitle, caution=caution)
     return atomic_write(path, lambda tmp: tmp.write_text(text, encoding="utf-8"))
@@ -454,6 +454,10 @@ def comparison_sections(comparison, plots: Sequence | None = None) -> list[Secti
     ]
 
 
+#: The fixed files :func:`write_comparison` writes into its folder (besides ``plots/``).
+COMPARISON_FILES = ("comparison.csv", "comparison.xlsx", "report.html")
+
+
 def write_comparison(
     comparison,
     outdir: str | Path,
@@ -471,13 +475,16 @@ def write_comparison(
     """
     from estimator.cautions import CAUTION_SHORT
     from estimator.comparison import SPEC_LABELS
+    from estimator.files import check_outputs, write_table
     from estimator.report.plots import comparison_figures, save_figure
-    from estimator.report.tables import write_table
 
     outdir = Path(outdir)
-    outdir.mkdir(parents=True, exist_ok=True)
     if plots is None:
         plots = comparison_figures(comparison)
+    check_outputs([*(outdir / name for name in COMPARISON_FILES),
+                   *(outdir / "plots" / f"{p.name}.{ext}" for p in plots
+                     for ext in ("png", "svg"))])
+    outdir.mkdir(parents=True, exist_ok=True)
     written: dict = {}
     ranked = comparison.ranked.assign(caution=CAUTION_SHORT)
     written["csv"] = write_table(ranked, outdir / "comparison.csv")

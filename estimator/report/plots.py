@@ -483,7 +483,7 @@ def save_figure(fig, stem: str | Path, *, dpi: int = 150) -> list[Path]:
     """Write ``stem.png`` and ``stem.svg`` atomically; return both paths."""
     import matplotlib
 
-    from estimator.report.tables import atomic_write
+    from estimator.files import atomic_write
 
     stem = Path(stem)
     paths = []

@@ -16,17 +16,19 @@ import pandas as pd
 
 from estimator.report.html import Section, bullet_list, paragraph, table_html
 
-__all__ = ["lab_section", "write_scenario"]
+__all__ = ["lab_section", "scenario_outputs", "write_scenario"]
 
 
 def write_scenario(result, outdir: str | Path) -> dict:
     """Write all outputs of a :class:`~estimator.scenario.ScenarioResult` into ``outdir``."""
     from estimator.cautions import CAUTION
+    from estimator.files import check_outputs, write_table
     from estimator.report.html import write_comparison
     from estimator.report.plots import save_figure
-    from estimator.report.tables import write_table
 
     outdir = Path(outdir)
+    files, folders = scenario_outputs(result, outdir)
+    check_outputs(files, folders=folders)
     outdir.mkdir(parents=True, exist_ok=True)
     written: dict = {}
     extra: list[Section] = []
@@ -65,10 +67,28 @@ def write_scenario(result, outdir: str | Path) -> dict:
     return written
 
 
+def scenario_outputs(result, outdir: str | Path) -> tuple[list[Path], list[Path]]:
+    """The files and the folders :func:`write_scenario` writes, before it writes any."""
+    from estimator.report.fit_sections import report_folder
+    from estimator.report.html import COMPARISON_FILES
+
+    outdir = Path(outdir)
+    files = [outdir / name for name in COMPARISON_FILES]
+    folders = [outdir / "plots"]
+    if result.blend is not None:
+        files.append(outdir / "blend.xlsx")
+    if result.mix is not None:
+        files.append(outdir / "mix.xlsx")
+    if result.fits:
+        files += [outdir / "lab_model.json", outdir / "estimates_with_lab_model.csv"]
+        folders.append(report_folder(outdir / "lab_model.json"))
+    return files, folders
+
+
 def _write_lab(result, outdir: Path, written: dict) -> Section:
+    from estimator.files import write_table
     from estimator.refit import file_provenance, save_models
     from estimator.report.fit_sections import write_fit_report
-    from estimator.report.tables import write_table
     from estimator.workflows import predict
 
     lab = result.lab_profile

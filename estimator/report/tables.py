@@ -1,81 +1,19 @@
-"""Write tables to CSV, XLSX or JSON atomically, and format them for the terminal."""
+"""Format tables for the terminal; writing lives in :mod:`estimator.files`.
+
+``atomic_write``, ``write_table`` and ``TABLE_SUFFIXES`` are re-exported here so
+older imports keep working; new code imports them from :mod:`estimator.files`.
+"""
 
 from __future__ import annotations
 
 import math
-import os
-import tempfile
-from collections.abc import Callable
-from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
-from estimator.errors import UsageError
+from estimator.files import TABLE_SUFFIXES, atomic_write, write_table
 
 __all__ = ["TABLE_SUFFIXES", "atomic_write", "format_table", "plus_minus", "write_table"]
-
-TABLE_SUFFIXES = (".csv", ".xlsx", ".json")
-
-
-def atomic_write(path: str | Path, writer: Callable[[Path], None]) -> Path:
-    """Call ``writer(tmp)`` on a temporary file beside ``path``, then rename it into place.
-
-    A reader never sees a half-written file, and a failure leaves any old file intact.
-    """
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp_name = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    os.close(fd)
-    tmp = Path(tmp_name)
-    try:
-        writer(tmp)
-        os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give the usual file mode
-        os.replace(tmp, path)
-    finally:
-        if tmp.exists():
-            tmp.unlink()
-    return path
-
-
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
-
-
-def write_table(
-    frame: pd.DataFrame,
-    path: str | Path,
-    *,
-    sheets: dict[str, pd.DataFrame] | None = None,
-    sheet_name: str = "table",
-) -> Path:
-    """Write a table by the file extension: ``.csv``, ``.xlsx`` or ``.json`` (records).
-
-    ``sheets`` adds further named sheets to an XLSX file (ignored for CSV/JSON);
-    ``sheet_name`` names the first one.
-    """
-    path = Path(path)
-    suffix = path.suffix.lower()
-    if suffix not in TABLE_SUFFIXES:
-        raise UsageError(
-            f"cannot write {path.name!r}: use an output file ending in {', '.join(TABLE_SUFFIXES)}"
-        )
-
-    def write(tmp: Path) -> None:
-        if suffix == ".csv":
-            frame.to_csv(tmp, index=False, float_format="%.6g")
-        elif suffix == ".xlsx":
-            with pd.ExcelWriter(tmp, engine="openpyxl") as xl:
-                frame.to_excel(xl, sheet_name=sheet_name[:31], index=False)
-                for name, extra in (sheets or {}).items():
-                    extra.to_excel(xl, sheet_name=name[:31], index=False)
-        else:
-            tmp.write_text(frame.to_json(orient="records", indent=1, double_precision=6) + "\n",
-                           encoding="utf-8")
-
-    return atomic_write(path, write)
 
 
 def _fmt(value: object, digits: int = 4) -> str:

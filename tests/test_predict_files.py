@@ -1,0 +1,72 @@
+"""predict from files to a file in pieces (estimator/predict_files.py): the same table as
+estimating the whole input at once."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from estimator.errors import ProfileError
+from estimator.files import write_table
+from estimator.predict_files import predict_to_file
+from estimator.profiles.io import read_profile
+from estimator.workflows import predict
+
+SPECIES = ["C12:0", "C14:0", "C16:0", "C16:1", "C18:0", "C18:1", "C18:2", "C18:3", "C20:0",
+           "C20:1", "C22:0", "C22:1", "C24:0"]
+
+
+def _random_lots(path, n: int, seed: int, *, sep: str = ",") -> None:
+    rng = np.random.default_rng(seed)
+    k = rng.integers(2, len(SPECIES) + 1)
+    cols = rng.choice(len(SPECIES), size=k, replace=False)
+    w = np.zeros((n, len(SPECIES)))
+    w[:, cols] = rng.dirichlet(np.full(k, 0.5), size=n) * 100
+    frame = pd.DataFrame(np.round(w, 3), columns=SPECIES)
+    frame.insert(0, "sample", [f"lot-{seed}-{i}" for i in range(n)])
+    frame.insert(1, "supplier", rng.choice(["=Acme", "Brand B", "-x"], size=n))
+    frame.to_csv(path, index=False, sep=sep)
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3, 4])
+@pytest.mark.parametrize("suffix", [".csv", ".json", ".xlsx"])
+def test_pieces_give_the_same_file_as_the_whole_table(tmp_path, seed, suffix):
+    # regression test: the fast path must not change results
+    lots = tmp_path / "lots.csv"
+    _random_lots(lots, 53, seed)
+    plain = write_table(predict(read_profile(lots)).wide, tmp_path / f"plain{suffix}")
+    fast = tmp_path / f"fast{suffix}"
+    rows = predict_to_file([lots], fast, chunk_rows=7, min_bytes=0)
+    assert rows == 53
+    if suffix == ".xlsx":
+        pd.testing.assert_frame_equal(pd.read_excel(fast), pd.read_excel(plain))
+    else:
+        assert fast.read_bytes() == plain.read_bytes()
+
+
+def test_pieces_match_pandas_own_writer_to_printed_precision(tmp_path):
+    lots = tmp_path / "lots.tsv"
+    _random_lots(lots, 40, 9, sep="\t")
+    fast = tmp_path / "fast.csv"
+    predict_to_file([lots], fast, chunk_rows=6, min_bytes=0)
+    table = predict(read_profile(lots)).wide
+    ref = tmp_path / "ref.csv"
+    table.to_csv(ref, index=False, float_format="%.6g")  # the plain pandas path
+    a, b = pd.read_csv(fast), pd.read_csv(ref)
+    assert list(a.columns) == list(b.columns)
+    num = [c for c in a.columns if b[c].dtype.kind == "f"]
+    np.testing.assert_allclose(a[num].to_numpy(float), b[num].to_numpy(float), rtol=1e-12,
+                               equal_nan=True)
+
+
+def test_a_sample_id_repeated_in_a_later_piece_names_both_rows(tmp_path):
+    lots = tmp_path / "lots.csv"
+    _random_lots(lots, 20, 5)
+    text = lots.read_text().replace("lot-5-17,", "lot-5-2,")
+    lots.write_text(text)
+    out = tmp_path / "out.csv"
+    with pytest.raises(ProfileError, match=r"lots\.csv: row 19, column 'sample': duplicate "
+                                           r"sample id \(also in row 4\)"):
+        predict_to_file([lots], out, chunk_rows=5, min_bytes=0)
+    assert not out.exists() and list(tmp_path.iterdir()) == [lots]
