@@ -38,7 +38,6 @@ import numpy as np
 import pandas as pd
 
 from estimator.errors import UsageError
-from estimator.xlsx import MAX_ROWS as XLSX_SHEET_ROWS
 
 __all__ = [
     "SIGNIFICANT_DIGITS", "TABLE_SUFFIXES", "XLSX_MAX_ROWS", "TableWriter", "atomic_write",
@@ -50,8 +49,9 @@ __all__ = [
 TABLE_SUFFIXES = (".csv", ".tsv", ".xlsx", ".json")
 #: Significant digits of every number written to CSV, TSV, JSON and XLSX.
 SIGNIFICANT_DIGITS = 6
-#: Rows of one XLSX sheet, header included (the file format's limit).
-XLSX_MAX_ROWS = XLSX_SHEET_ROWS
+#: Rows of one XLSX sheet, header included (the file format's limit; also
+#: ``estimator.xlsx.MAX_ROWS``).
+XLSX_MAX_ROWS = 1_048_576
 #: First characters that make a spreadsheet read a text cell as a formula (common guidance
 #: for CSV injection: OWASP "CSV Injection").
 FORMULA_START = ("=", "+", "-", "@", "\t", "\r")

@@ -90,7 +90,7 @@ def test_unwritable_output_suffix_is_a_usage_error(tmp_path):
     assert result.exit_code == 2
     assert result.output == (
         "fame-estimator: error: cannot write 'x.txt': use an output file ending in "
-        ".csv, .xlsx, .json\n"
+        ".csv, .tsv, .xlsx, .json\n"
     )
 
 
