@@ -117,6 +117,14 @@ def _predict_to_file(inputs, oils, basis, sum_tolerance, temperatures, models, o
     kwargs = {"oils": oils, "basis": basis, "sum_tolerance": sum_tolerance,
               "temperatures_C": temperatures, "models": models}
     size = sum(os.path.getsize(p) for p in inputs if os.path.isfile(p))
+    if output.lower().endswith(".xlsx") and size > 40_000_000:
+        from estimator.files import XLSX_MAX_ROWS
+
+        lines = _count_lines(inputs)  # header lines included: a close upper bound
+        if lines - len(inputs) >= XLSX_MAX_ROWS:
+            raise UsageError(f"-o {output}: about {lines - len(inputs):,} rows do not fit in one "
+                             f"XLSX sheet (at most {XLSX_MAX_ROWS - 1:,}); write a .csv file "
+                             "instead")
     if sys.stderr.isatty() and size > 4_000_000:
         with click.progressbar(length=size, label="estimating", file=sys.stderr,
                                show_eta=True) as bar:

@@ -32,6 +32,7 @@ import pandas as pd
 
 from estimator.tables import species_keys
 
+HERE = Path(__file__).resolve().parent
 MAIN = ["C16:0", "C18:0", "C18:1", "C18:2", "C18:3", "C20:0", "C20:1", "C22:0", "C14:0", "C12:0"]
 
 
@@ -54,10 +55,19 @@ def write_profiles(path: Path, n: int, seed: int = 2) -> None:
     frame.to_csv(path, index=False, float_format="%.4f")
 
 
+TIME = "/usr/bin/time"
+
+
 def run(cmd: list[str]) -> tuple[float, float]:
-    """Wall time [s] and peak resident memory [MB] of one process."""
+    """Wall time [s] and peak resident memory [MB] of one process.
+
+    Peak memory comes from GNU time (``%M``) when it is installed: a child forked from
+    this (large) benchmark process would otherwise report this process's memory too.
+    """
+    use_time = os.path.exists(TIME)
+    full = [TIME, "-f", "maxrss_kb=%M", *cmd] if use_time else cmd
     t0 = time.perf_counter()
-    proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    proc = subprocess.Popen(full, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
     _, status, usage = os.wait4(proc.pid, 0)
     elapsed = time.perf_counter() - t0
     proc.returncode = os.waitstatus_to_exitcode(status)
@@ -65,7 +75,10 @@ def run(cmd: list[str]) -> tuple[float, float]:
     proc.stderr.close()
     if proc.returncode != 0:
         raise SystemExit(f"{' '.join(cmd)} failed ({proc.returncode}): {err.strip()}")
-    return elapsed, usage.ru_maxrss / 1024  # Linux reports kB
+    peak_kb = usage.ru_maxrss  # Linux reports kB
+    if use_time:
+        peak_kb = int(err.strip().splitlines()[-1].split("=", 1)[1])
+    return elapsed, peak_kb / 1024
 
 
 def best(cmd: list[str], repeat: int) -> tuple[float, float]:
@@ -138,7 +151,11 @@ def main() -> None:
     with tempfile.TemporaryDirectory() as tmp:
         for n in sorted(set(sizes + ([args.xlsx_size] if args.xlsx_size else []))):
             path = Path(tmp) / f"profiles_{n}.csv"
-            write_profiles(path, n)
+            # in a child process, so that this one stays small
+            subprocess.run([py, "-c", f"import sys; sys.path.insert(0, {str(HERE)!r}); "
+                            f"from bench_predict import write_profiles; "
+                            f"from pathlib import Path; write_profiles(Path({str(path)!r}), {n})"],
+                           check=True)
             base_t, base_m = best([py, "-c", f"import pandas; pandas.read_csv({str(path)!r})"],
                                   args.repeat)
             if n in sizes:
