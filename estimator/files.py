@@ -220,13 +220,16 @@ def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
 
     >>> round_significant([59.644137, -0.000123456789, 0.0, -0.0, 1234567.0]).tolist()
     [59.6441, -0.000123457, 0.0, 0.0, 1234570.0]
+    >>> float(round_significant(2.0 / 3.0))
+    0.666667
     """
-    a = np.asarray(values, dtype=float)
+    given = np.asarray(values, dtype=float)
+    a = given.reshape(-1)
     out = a + 0.0  # also turns -0.0 into 0.0
     nz = np.isfinite(a) & (a != 0)
     x = a[nz] if not nz.all() else a
     if not len(x):
-        return out
+        return out.reshape(given.shape)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
         d = (digits - 1) - np.floor(np.log10(np.abs(x)))
         # scale by an exact power of ten (up to 1e22), so that m / 10**d is the
@@ -243,7 +246,7 @@ def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
     if bad.any():
         r[bad] = x[bad]
     out[nz] = r + 0.0
-    return out
+    return out.reshape(given.shape)
 
 
 def _formula_like(text: str) -> bool:

@@ -221,3 +221,18 @@ def test_round_significant_matches_printf_rounding():
     expected = np.array([float(f"{v:.6g}") for v in values[ok]])
     np.testing.assert_allclose(got[ok], expected, rtol=1.1e-6)  # ties may round either way
     assert not np.signbit(round_significant([-0.0]))[0]
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".json", ".xlsx"])
+def test_a_column_mixing_text_and_numbers_keeps_each_cell_kind(tmp_path, suffix):
+    frame = pd.DataFrame({"m": ["a", 1.23456789, 5, True, None, float("nan"), "=2"]})
+    path = write_table(frame, tmp_path / f"t{suffix}")
+    if suffix == ".csv":
+        assert path.read_text() == "m\na\n1.23457\n5\nTrue\n\n\n'=2\n"
+    elif suffix == ".json":
+        assert pd.read_json(path)["m"].tolist()[:5] == ["a", 1.23457, 5, True, None]
+    else:
+        from openpyxl import load_workbook
+
+        cells = [c.value for c in load_workbook(path).active["A"]]
+        assert cells == ["m", "a", 1.23457, 5, True, None, None, "=2"]
