@@ -12,7 +12,14 @@ from pathlib import Path
 
 import click
 
-from estimator.cliutil import CONTEXT, ReportingCommand, emit, input_options, load_inputs
+from estimator.cliutil import (
+    CONTEXT,
+    ReportingCommand,
+    emit,
+    input_options,
+    load_inputs,
+    peak_options,
+)
 
 __all__ = ["STRICT_EXIT_CODE", "check", "compare"]
 
@@ -36,6 +43,7 @@ def _spec_options(func):
 
 
 def _inputs(func):
+    func = peak_options(func)
     func = input_options(func)
     func = click.option(
         "--oil", "oils", multiple=True, metavar="NAME",
@@ -81,7 +89,8 @@ def _with_caution(frame, output: str | None):
               help=f"Exit with status {STRICT_EXIT_CODE} when any verdict is 'fails'.")
 @click.option("-o", "--output", metavar="FILE",
               help="Write the verdict table (.csv, .xlsx or .json).")
-def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict, output) -> None:
+def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
+          spec_names, climate_class, strict, output) -> None:
     """Check each sample's estimated fuel against specification limits.
 
     Every estimate is compared with every limit: 'meets', 'fails', or 'too close to
@@ -95,6 +104,7 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
       fame-estimator check --oil rapeseed --oil soybean
       fame-estimator check lots.csv --spec en14214 --climate-class C
       fame-estimator check lots.csv --spec astm-d6751 --strict -o verdicts.xlsx
+      fame-estimator check peaks.csv --reference mix.csv --samples masses.csv
     """
     import pandas as pd
 
@@ -105,7 +115,8 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
     names = spec_names or DEFAULT_SPECS
     climate_class = normalise_climate_class(climate_class)
     limits(names, climate_class)  # bad names fail before the inputs are read
-    profile = load_inputs(inputs, oils, basis, sum_tolerance)
+    profile = load_inputs(inputs, oils, basis, sum_tolerance, reference, sample_sheet,
+                          internal_standard)
     table = check_profile(profile, names, climate_class)
     failed = int((table["verdict"] == "fails").sum())
     footer = _footer(climate_class, names, table)
@@ -151,8 +162,8 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
 @click.option("-o", "--output", "outdir", metavar="DIR", type=click.Path(file_okay=False),
               help="Write comparison.csv, comparison.xlsx, plots/ (PNG and SVG) and "
                    "report.html into DIR.")
-def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretreat,
-            methanol_ratio, outdir) -> None:
+def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
+            spec_names, climate_class, pretreat, methanol_ratio, outdir) -> None:
     """Compare offered lots: spec verdicts, fuel yield and cost per tonne of fuel, ranked.
 
     Reads each lot's profile and, when present, its price_per_t, ffa_wt_pct,
@@ -178,7 +189,8 @@ def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretr
 
         raise UsageError(f"-o {outdir}: compare writes a folder of files; give a folder name "
                          "(e.g. -o out/lots), not a file")
-    profile = load_inputs(inputs, oils, basis, sum_tolerance)
+    profile = load_inputs(inputs, oils, basis, sum_tolerance, reference, sample_sheet,
+                          internal_standard)
     result = compare_lots(profile, spec_names=names, climate_class=climate_class,
                           pretreat=pretreat, methanol_ratio=methanol_ratio)
     footer = _footer(climate_class, names, result.verdicts)
