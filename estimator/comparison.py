@@ -40,6 +40,7 @@ KEY_PROPERTIES = (
     "kin_viscosity_40C_mm2_s",
     "linolenic_wt_pct",
     "pufa4_wt_pct",
+    "ester_content_wt_pct",  # only when measured (EN 14103 from a GC peak table)
 )
 
 #: How the specifications are written in tables, legends and the report.

@@ -286,6 +286,7 @@ _PROPERTY_HEADERS = {
     "kin_viscosity_40C_mm2_s": "viscosity 40 °C [mm²/s]",
     "linolenic_wt_pct": "linolenic ester [wt %]",
     "pufa4_wt_pct": "esters with ≥ 4 double bonds [wt %]",
+    "ester_content_wt_pct": "ester content, EN 14103 [% (m/m)]",
 }
 
 
