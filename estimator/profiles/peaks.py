@@ -33,6 +33,7 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
@@ -211,10 +212,19 @@ class Reference:
     source: str
     internal_standard: str
 
-    @property
+    @cached_property
     def anchors(self) -> pd.DataFrame:
         """The saturated methyl esters of the reference, by retention time."""
         return self.peaks[self.peaks["carbons"].notna()].sort_values("retention_time_min")
+
+    @cached_property
+    def arrays(self) -> dict[str, np.ndarray]:
+        """Columns as arrays: rt, key, role of every peak; anchor_rt, anchor_n."""
+        return {"rt": self.peaks["retention_time_min"].to_numpy(dtype=float),
+                "key": self.peaks["key"].to_numpy(dtype=object),
+                "role": self.peaks["role"].to_numpy(dtype=object),
+                "anchor_rt": self.anchors["retention_time_min"].to_numpy(dtype=float),
+                "anchor_n": self.anchors["carbons"].to_numpy(dtype=float)}
 
 
 def _check_internal_standard(internal_standard: str) -> str:
@@ -363,7 +373,8 @@ def _rt_at_ecl(ecl, anchor_rt, anchor_n, method, dead_time_min):
 def _anchor_pairs(rt, reference, window, min_rt):
     """(sample rt, reference rt, carbons) of the saturated esters found once in the sample."""
     pairs = []
-    for r_rt, n in zip(reference.anchors["retention_time_min"], reference.anchors["carbons"]):
+    arrays = reference.arrays
+    for r_rt, n in zip(arrays["anchor_rt"], arrays["anchor_n"]):
         hit = np.flatnonzero(np.abs(rt - r_rt) <= ANCHOR_WINDOWS * window)
         if len(hit) == 1 and rt[hit[0]] > min_rt:
             pairs.append((rt[hit[0]], r_rt, n))
@@ -411,44 +422,47 @@ class PeakReading:
         return out
 
 
-def _factors(keys, calibration: pd.Series | None, source: str, sample: str) -> np.ndarray:
-    """Mass factor per identified peak key (NaN for peaks without a key)."""
+def _factor_table(keys, calibration: pd.Series | None) -> dict[str, float]:
+    """Mass factor of every reference key (NaN: a species the calibration file lacks)."""
     from estimator.tables import species_table
 
     table = species_table()
-    out = np.full(len(keys), np.nan)
-    for i, key in enumerate(keys):
-        if not key:
-            continue
+    out: dict[str, float] = {}
+    for key in dict.fromkeys(keys):
         if calibration is not None and key in table.index:
-            if key not in calibration.index:
-                raise ProfileError(
-                    f"{source}: no response factor for {key} (identified in sample "
-                    f"{sample!r}); add a row, or leave out the calibration file to use the "
-                    "theoretical factors"
-                )
-            out[i] = 1.0 / calibration[key]
+            out[key] = 1.0 / calibration[key] if key in calibration.index else np.nan
         elif key in table.index:
-            out[i] = tcf_ackman1964(table.at[key, "fame_molar_mass_g_mol"],
-                                    table.at[key, "carbons"])
+            out[key] = float(tcf_ackman1964(table.at[key, "fame_molar_mass_g_mol"],
+                                            table.at[key, "carbons"]))
         else:  # a saturated ester outside the species table: CnH2n+1COOCH3
             n = int(key[1:].split(":")[0])
             mass = (n + 1) * 12.011 + (2 * n + 2) * 1.008 + 2 * 15.999
-            out[i] = tcf_ackman1964(mass, n)
+            out[key] = float(tcf_ackman1964(mass, n))
     return out
 
 
-def _identify(peaks: pd.DataFrame, reference: Reference, window: float, cutoff: float,
-              ecl_method: str, dead_time_min: float) -> tuple[pd.DataFrame, list[str]]:
-    """Status, species and candidates of every peak of one sample."""
-    rt = peaks["retention_time_min"].to_numpy(dtype=float)
+def _factors(keys, factor_table: dict[str, float], source: str, sample: str) -> np.ndarray:
+    """Mass factor per identified peak (NaN for peaks without a key)."""
+    out = np.array([factor_table[k] if k else np.nan for k in keys], dtype=float)
+    missing = [k for k, f in zip(keys, out) if k and np.isnan(f)]
+    if missing:
+        raise ProfileError(
+            f"{source}: no response factor for {missing[0]} (identified in sample "
+            f"{sample!r}); add a row, or leave out the calibration file to use the "
+            "theoretical factors"
+        )
+    return out
+
+
+def _identify(rt: np.ndarray, reference: Reference, window: float, cutoff: float,
+              ecl_method: str, dead_time_min: float) -> tuple[dict, list[str]]:
+    """Status, species and candidates of every peak of one sample (arrays by column)."""
     n = len(rt)
     notes: list[str] = []
     solvent = rt < cutoff
     if solvent.any():
         notes.append(f"{int(solvent.sum())} peak(s) before {cutoff:.2f} min dropped as solvent")
-    ref = reference.peaks
-    anchors = reference.anchors
+    ref = reference.arrays
     min_rt = max(cutoff, dead_time_min)
     pairs = _anchor_pairs(np.where(solvent, -np.inf, rt), reference, window, min_rt)
     ecl = np.full(n, np.nan)
@@ -466,10 +480,10 @@ def _identify(peaks: pd.DataFrame, reference: Reference, window: float, cutoff: 
         else:
             notes.append("no saturated ester found once: retention times compared as they "
                          "are, without drift correction")
-        if len(anchors) >= 2:
-            ecl[live] = _ecl(on_ref[live], anchors["retention_time_min"].to_numpy(),
-                             anchors["carbons"].to_numpy(), ecl_method, dead_time_min)
-    ref_rt = ref["retention_time_min"].to_numpy()
+        if len(ref["anchor_rt"]) >= 2:
+            ecl[live] = _ecl(on_ref[live], ref["anchor_rt"], ref["anchor_n"], ecl_method,
+                             dead_time_min)
+    ref_rt = ref["rt"]
     near = (np.abs(on_ref[:, None] - ref_rt[None, :]) <= window) & ~solvent[:, None]
     count = near.sum(axis=1)
     single = count == 1
@@ -479,7 +493,7 @@ def _identify(peaks: pd.DataFrame, reference: Reference, window: float, cutoff: 
     candidates = np.full(n, "", dtype=object)
     for i in np.flatnonzero(count >= 1):
         cols = np.flatnonzero(near[i])
-        names = [ref["key"].iat[j] for j in cols]
+        names = [ref["key"][j] for j in cols]
         if len(cols) > 1:
             status[i] = "ambiguous"
             candidates[i] = " or ".join(names)
@@ -489,7 +503,7 @@ def _identify(peaks: pd.DataFrame, reference: Reference, window: float, cutoff: 
             candidates[i] = (f"{names[0]} (peaks at "
                              f"{', '.join(f'{rt[k]:.3f}' for k in others)} min)")
         else:
-            role = ref["role"].iat[cols[0]]
+            role = ref["role"][cols[0]]
             status[i] = "identified" if role == "species" else role
             key[i] = names[0]
     status[solvent] = "solvent"
@@ -499,10 +513,8 @@ def _identify(peaks: pd.DataFrame, reference: Reference, window: float, cutoff: 
     if amb.any():
         notes.append(f"{int(amb.sum())} ambiguous peak(s) not assigned: "
                      + "; ".join(f"{rt[i]:.3f} min ({candidates[i]})" for i in np.flatnonzero(amb)))
-    ident = pd.DataFrame({
-        "ecl": ecl, "retention_on_reference_min": np.where(solvent, np.nan, on_ref),
-        "status": status, "species": key, "candidates": candidates,
-    }, index=peaks.index)
+    ident = {"ecl": ecl, "retention_on_reference_min": np.where(solvent, np.nan, on_ref),
+             "status": status, "species": key, "candidates": candidates}
     return ident, notes
 
 
@@ -592,6 +604,7 @@ def read_peaks(
     peaks = pd.concat(tables, ignore_index=True)
     sheet = read_sample_sheet(samples) if samples is not None else None
     cal = read_calibration(calibration) if calibration is not None else None
+    factor_table = _factor_table(ref.peaks["key"], cal)
     first_ref = float(ref.peaks["retention_time_min"].min())
     cutoff = 0.5 * first_ref if solvent_cutoff_min is None else float(solvent_cutoff_min)
     if cutoff >= first_ref:
@@ -606,75 +619,83 @@ def read_peaks(
     end = ref_rt[WINDOW_END] + window_min if WINDOW_END in ref_rt else np.inf
     window_text = (f"{start_key if start_key in ref_rt else 'solvent cut-off'} to "
                    f"{WINDOW_END if WINDOW_END in ref_rt else 'last peak'}")
+    masses = ({} if sheet is None else
+              dict(zip(sheet.index, zip(sheet["sample_mass_mg"], sheet["internal_standard_mg"]))))
+    codes, uniques = pd.factorize(peaks["sample"], sort=False)
+    order = np.argsort(codes, kind="stable")
+    bounds = np.searchsorted(codes[order], np.arange(len(uniques) + 1))
+    cols = {c: peaks[c].to_numpy() for c in ("retention_time_min", "area", "name", "row", "file")}
     idents, comps, others, rows, notes_all, content = [], [], [], [], [], []
-    for sample, group in peaks.groupby("sample", sort=False):
-        ident, notes = _identify(group, ref, window_min, cutoff, ecl_method, dead_time_min)
-        area = group["area"].to_numpy(dtype=float)
-        status = ident["status"].to_numpy()
-        keys = ident["species"].to_numpy()
-        factor = _factors(keys, cal, cal.name if cal is not None else "", sample)
-        notes += _name_check(group["name"], keys, is_key)
+    for number, sample in enumerate(uniques):
+        idx = order[bounds[number]:bounds[number + 1]]
+        rt = cols["retention_time_min"][idx].astype(float)
+        area = cols["area"][idx].astype(float)
+        ident, notes = _identify(rt, ref, window_min, cutoff, ecl_method, dead_time_min)
+        status, keys = ident["status"], ident["species"]
+        factor = _factors(keys, factor_table, cal.name if cal is not None else "", sample)
+        notes += _name_check(cols["name"][idx], keys, is_key)
         esters = (status != "solvent") & (status != "internal standard")
-        unassigned = np.isin(status, ("unidentified", "ambiguous"))
+        unassigned = (status == "unidentified") | (status == "ambiguous")
         mass = np.where(esters, area * np.nan_to_num(factor, nan=1.0), 0.0)
         total_mass = mass.sum()
         if total_mass <= 0:
-            raise ProfileError(f"{group['file'].iat[0]}: row {group['row'].iat[0]}: sample "
+            raise ProfileError(f"{cols['file'][idx[0]]}: row {cols['row'][idx[0]]}: sample "
                                f"{sample!r} has no ester peaks after the solvent")
         pct = 100.0 * mass / total_mass
-        in_profile = status == "identified"
-        comps.append(pd.Series(pct[in_profile]).groupby(keys[in_profile]).sum().rename(sample))
-        others.append(100.0 - pct[in_profile].sum())
-        rows.append(int(group["row"].iat[0]))
+        in_profile = np.flatnonzero(status == "identified")
+        comp: dict[str, float] = {}
+        for i in in_profile:
+            comp[keys[i]] = comp.get(keys[i], 0.0) + pct[i]
+        comps.append(comp)
+        others.append(max(0.0, 100.0 - pct[in_profile].sum()))
+        rows.append(int(cols["row"][idx[0]]))
         ester_area = area[esters].sum()
-        unid_pct = 100.0 * area[unassigned].sum() / ester_area
-        amb_pct = 100.0 * area[status == "ambiguous"].sum() / ester_area
-        on_ref = ident["retention_on_reference_min"].to_numpy()
+        on_ref = ident["retention_on_reference_min"]
         in_window = (status != "solvent") & (on_ref >= start) & (on_ref <= end)
         total = area[in_window].sum()
-        is_hits = status == "internal standard"
-        a_is = area[is_hits].sum()
+        a_is = area[status == "internal standard"].sum()
         linolenic = float(linolenic_en14103(area[keys == LINOLENIC].sum(), total, a_is))
-        ester = error = np.nan
-        m_sample = m_is = np.nan
+        ester = error = m_sample = m_is = np.nan
         if sheet is not None:
-            if sample not in sheet.index:
+            if sample not in masses:
                 notes.append(f"no row in {Path(samples).name}: ester content not computed")
             elif a_is <= 0:
                 notes.append(f"internal standard {is_key} not found: ester content not "
                              "computed")
             else:
-                m_sample, m_is = sheet.loc[sample, ["sample_mass_mg", "internal_standard_mg"]]
+                m_sample, m_is = masses[sample]
                 ester = float(ester_content_en14103(total, a_is, m_is, m_sample))
                 error = ester_repeatability_wt_pct
         elif a_is <= 0:
             notes.append(f"internal standard {is_key} not found")
+        after_solvent = area[status != "solvent"].sum()
         content.append({
             "sample": sample, "ester_content_wt_pct": ester, "ester_content_wt_pct_error": error,
-            "linolenic_wt_pct": linolenic, "unidentified_area_pct": unid_pct,
-            "ambiguous_area_pct": amb_pct, "internal_standard": is_key,
-            "internal_standard_area_pct": 100.0 * a_is / area[status != "solvent"].sum(),
+            "linolenic_wt_pct": linolenic,
+            "unidentified_area_pct": 100.0 * area[unassigned].sum() / ester_area,
+            "ambiguous_area_pct": 100.0 * area[status == "ambiguous"].sum() / ester_area,
+            "internal_standard": is_key, "internal_standard_area_pct": 100.0 * a_is / after_solvent,
             "sample_mass_mg": m_sample, "internal_standard_mg": m_is,
             "integration_window": window_text, "method": INTERNAL_STANDARDS[is_key][0],
             "response_factors": factor_text, "notes": "; ".join(notes),
         })
         notes_all.append("; ".join(notes))
-        idents.append(pd.DataFrame({
-            "sample": sample, "file": group["file"].to_numpy(), "row": group["row"].to_numpy(),
-            "retention_time_min": group["retention_time_min"].to_numpy(), "area": area,
-            "area_pct": 100.0 * area / area[status != "solvent"].sum(),
-            "ecl": ident["ecl"].to_numpy(),
+        idents.append({
+            "sample": np.full(len(idx), sample, dtype=object), "file": cols["file"][idx],
+            "row": cols["row"][idx], "retention_time_min": rt, "area": area,
+            "area_pct": 100.0 * area / after_solvent, "ecl": ident["ecl"],
             "retention_on_reference_min": on_ref, "status": status, "species": keys,
-            "candidates": ident["candidates"].to_numpy(), "mass_factor": factor,
-            "in_ester_window": in_window, "name_in_file": group["name"].to_numpy(),
-        }))
+            "candidates": ident["candidates"], "mass_factor": factor,
+            "in_ester_window": in_window, "name_in_file": cols["name"][idx],
+        })
     content_df = pd.DataFrame(content)
-    comp = pd.DataFrame(comps).fillna(0.0)
+    comp = pd.DataFrame.from_records(comps, index=list(uniques)).fillna(0.0)
     meta = content_df.set_index("sample")[
         ["ester_content_wt_pct", "ester_content_wt_pct_error", "linolenic_wt_pct",
          "unidentified_area_pct"]]
     profile = Profile.from_frame(
-        comp, other=pd.Series(others, index=comp.index).clip(lower=0.0), metadata=meta,
+        comp, other=pd.Series(others, index=comp.index), metadata=meta,
         source=", ".join(dict.fromkeys(peaks["file"])), rows=rows, notes=notes_all,
     )
-    return PeakReading(profile, content_df, pd.concat(idents, ignore_index=True), factor_text)
+    identification = pd.DataFrame({c: np.concatenate([d[c] for d in idents]) for c in idents[0]})
+    return PeakReading(profile, content_df, identification, factor_text)
