@@ -62,6 +62,10 @@ def _footer(climate_class: str | None, spec_names, verdicts=None) -> str:
         if os_fail.any():
             lines.append("Oxidation stability is the esters' own, without antioxidant; "
                          "producers commonly dose one to reach the limit (common practice).")
+        if (verdicts["property"] == "ester_content_wt_pct").any():
+            lines.append("Ester content: measured by EN 14103 on the peak tables; its band is "
+                         "the method's repeatability, about 1 % (m/m) (recalled, not checked "
+                         "against the standard's text).")
     if climate_class is None and any(s in ("en14214", "en590") for s in spec_names):
         lines.append("CFPP not judged: give --climate-class (A-F, or arctic 0-4) to check it.")
     lines.append(CAUTION_SHORT)

@@ -83,6 +83,7 @@ def test_check_judges_the_ester_content_of_peak_tables():
     # more than the ~1 % (m/m) repeatability band (shared GC notes, MEMORY)
     assert "TW-0815 tallow: EN 14214 fails (ester content)" in result.output
     assert "too close to call (ester content)" in result.output  # the 96.9 % lot
+    assert "its band is the method's repeatability, about 1 % (m/m)" in result.output
 
 
 def test_check_without_a_samples_sheet_gives_no_ester_verdict():

@@ -41,6 +41,7 @@ import pandas as pd
 
 from estimator.errors import InputFileError, ProfileError, UnknownSpeciesError, UsageError
 from estimator.profiles.gc_formulas import (
+    _piecewise,
     ecl_miwa1960,
     ecl_vandendool1963,
     ester_content_en14103,
@@ -362,8 +363,6 @@ def _ecl(rt, anchor_rt, anchor_n, method, dead_time_min):
 
 def _rt_at_ecl(ecl, anchor_rt, anchor_n, method, dead_time_min):
     """Inverse of :func:`_ecl` on one run's anchors: the retention time of a given ECL."""
-    from estimator.profiles.gc_formulas import _piecewise
-
     if method == "miwa1960":
         log_t = _piecewise(ecl, anchor_n, np.log(anchor_rt - dead_time_min))
         return np.exp(log_t) + dead_time_min
@@ -605,6 +604,9 @@ def read_peaks(
     sheet = read_sample_sheet(samples) if samples is not None else None
     cal = read_calibration(calibration) if calibration is not None else None
     factor_table = _factor_table(ref.peaks["key"], cal)
+    general: list[str] = []
+    if is_key not in set(ref.peaks["key"]):
+        general.append(f"the reference run does not list the internal standard {is_key}")
     first_ref = float(ref.peaks["retention_time_min"].min())
     cutoff = 0.5 * first_ref if solvent_cutoff_min is None else float(solvent_cutoff_min)
     if cutoff >= first_ref:
@@ -631,6 +633,7 @@ def read_peaks(
         rt = cols["retention_time_min"][idx].astype(float)
         area = cols["area"][idx].astype(float)
         ident, notes = _identify(rt, ref, window_min, cutoff, ecl_method, dead_time_min)
+        notes = general + notes
         status, keys = ident["status"], ident["species"]
         factor = _factors(keys, factor_table, cal.name if cal is not None else "", sample)
         notes += _name_check(cols["name"][idx], keys, is_key)

@@ -279,3 +279,12 @@ def test_file_peak_name_that_disagrees_with_retention_is_noted(tmp_path):
         "name": ["C16:0", "C18:1"]}))
     notes = read_peaks(path, ref).content["notes"].iat[0]
     assert "the file names a peak 'C18:1', retention says C18:0" in notes
+
+
+def test_reference_without_the_internal_standard_is_noted(tmp_path):
+    ref = _ref(tmp_path, [("C16:0", 10.0), ("C18:0", 12.0)])
+    peaks = _peaks(tmp_path, [("a", 10.0, 100.0), ("a", 12.0, 50.0), ("a", 13.0, 30.0)])
+    content = read_peaks(peaks, ref).content.iloc[0]
+    assert content["notes"].startswith(
+        "the reference run does not list the internal standard C19:0")
+    assert content["internal_standard_area_pct"] == 0.0
