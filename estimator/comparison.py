@@ -40,7 +40,6 @@ KEY_PROPERTIES = (
     "kin_viscosity_40C_mm2_s",
     "linolenic_wt_pct",
     "pufa4_wt_pct",
-    "ester_content_wt_pct",  # only when measured (EN 14103 from a GC peak table)
 )
 
 #: How the specifications are written in tables, legends and the report.
@@ -185,7 +184,7 @@ def compare_lots(
                             dtype=object)
         ranked[f"verdict_{spec}"] = text
     table = table.set_index("sample").reindex(profile.samples)
-    for prop in KEY_PROPERTIES:
+    for prop in (*KEY_PROPERTIES, *specs.MEASURED_PROPERTIES):  # measured: only if given
         if prop in table.columns:
             ranked[prop] = table[prop].to_numpy(dtype=float)
             ranked[f"{prop}_error"] = table[f"{prop}_error"].to_numpy(dtype=float)

@@ -319,7 +319,7 @@ def ranking_section(comparison) -> Section:
         "fuel yield [t/t oil]": ".4f", "price [per t oil]": ",.0f",
         "feedstock cost [per t fuel]": ",.0f", "available [t]": ",.0f"})
     props = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
-    for prop in KEY_PROPERTIES:
+    for prop in (*KEY_PROPERTIES, "ester_content_wt_pct"):  # the last only when measured
         if prop in r.columns:
             props[_PROPERTY_HEADERS.get(prop, prop)] = [
                 plus_minus(v, e) for v, e in zip(r[prop], r[f"{prop}_error"])]
