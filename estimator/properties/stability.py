@@ -1,9 +1,9 @@
 """Oxidation stability of FAME: Rancimat correlations and oxidizability indicators.
 
 :func:`park2008` and :func:`park2008_bape` estimate the Rancimat induction
-period at 110 degC (EN 14112 / EN 15751), in hours. The two ``*_indicator`` functions are *indicators*: a
-linoleate-equivalent mass % that ranks profiles by how fast they oxidise. They
-are not fitted to induction periods and must not be read as hours.
+period at 110 degC (EN 14112 / EN 15751), in hours. The two ``*_indicator``
+functions are *indicators*: a linoleate-equivalent mass % that ranks profiles
+by how fast they oxidise. They are not fitted to induction periods and must not be read as hours.
 """
 
 from __future__ import annotations

@@ -272,8 +272,10 @@ def test_species_spellings_cover_keys_and_synonyms_and_are_a_fresh_copy() -> Non
         ("xyz", "unknown species 'xyz'; no close match in the species table"),
         ("C18:7", "unknown species 'C18:7'; no close match in the species table"),
         ("", "unknown species ''; no close match in the species table"),
-        ("C18:1 foo", "unknown species 'C18:1 foo'; close matches: C18:1, C18:1t, C18:1OH, C18:1n12"),
-        ("C18:1+C18:2", "unknown species 'C18:1+C18:2'; close matches: C18:1, C18:1t, C18:1OH, C18:1n12"),
+        ("C18:1 foo",
+         "unknown species 'C18:1 foo'; close matches: C18:1, C18:1t, C18:1OH, C18:1n12"),
+        ("C18:1+C18:2",
+         "unknown species 'C18:1+C18:2'; close matches: C18:1, C18:1t, C18:1OH, C18:1n12"),
     ],
 )
 def test_unknown_species_message_names_close_matches(notation: str, message: str) -> None:
