@@ -493,9 +493,10 @@ def imahara2006(saturated_mole_fraction, melting_point_C, enthalpy_fusion_kJ_mol
     solubility, Costa et al., VERIFIED [S23]). No minimum content below
     which an ester may be ignored is published, so none is applied. The
     result is continuous in composition; a trace matters only once its own
-    liquidus overtakes that of the main saturated ester: 0.5 wt % of
-    methyl behenate in a soybean ester leaves the cloud point unchanged,
-    1.5 wt % of arachidate plus behenate raises it by about 4 K. That
+    liquidus overtakes that of the main saturated ester: in a soybean
+    ester 0.5 wt % of arachidate and behenate leaves the cloud point
+    unchanged, 0.5 wt % of behenate alone raises it by 0.7 K and 1.5 wt %
+    of arachidate plus behenate by about 4 K. That
     sensitivity is of the size the long-chain weights of Ramos et al. 2009
     give for CFPP (C20:0 x 1, C22:0 x 1.5 against C16:0 x 0.1 in the LCSF:
     +5.9 K for the same addition), so it is kept as physics, not treated
