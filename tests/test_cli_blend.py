@@ -110,8 +110,14 @@ def test_blend_help_shows_examples():
         result.output
 
 
+#: The demo lots meet EN 14214 at CFPP -5 only with Park's linear Rancimat form (the
+#: default, park2008_bape, leaves the best mix 0.14 h short of 8 h: a regression setting).
+PARK = ("--method", "oxidation_stability_110C_h=park2008")
+
+
 def test_mix_prints_shares_cost_limits_and_verdict():
-    result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500")
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500",
+                 *PARK)
     assert result.exit_code == 0, result.output
     out = result.output
     assert "Least-cost mix (shares of the fuel's mass" in out
@@ -124,7 +130,7 @@ def test_mix_prints_shares_cost_limits_and_verdict():
 def test_mix_writes_lot_shares_and_sheets_of_properties_and_verdicts(tmp_path):
     out = tmp_path / "mix.xlsx"
     result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500",
-                 "-o", out)
+                 "-o", out, *PARK)
     assert result.exit_code == 0, result.output
     sheets = pd.read_excel(out, sheet_name=None)
     assert set(sheets) == {"table", "properties", "limits", "profile", "cautions"}
@@ -158,7 +164,7 @@ def test_mix_bad_method_override_lists_valid_methods():
     assert result.exit_code == 2
     assert result.output == (
         "fame-estimator: error: unknown method 'best' for cetane_number; valid methods: "
-        "krisnangkura1986, bamgboye2008, klopfenstein1985, ramirezverduzco2012\n")
+        "krisnangkura1986, bamgboye2008, knothe2005, ramirezverduzco2012\n")
 
 
 def test_mix_bad_demand_is_refused():
@@ -175,7 +181,8 @@ def test_mix_help_shows_examples():
 
 def test_mix_report_is_a_self_contained_page_with_the_caution(tmp_path):
     page = tmp_path / "mix.html"
-    result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--report", page)
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--report", page,
+                 *PARK)
     assert result.exit_code == 0, result.output
     text = page.read_text(encoding="utf-8")
     assert "Least-cost mix of lots" in text and "Limits on the mixed fuel" in text

@@ -58,7 +58,7 @@ def test_ranked_table_joins_verdict_summaries_properties_and_cost():
     for prop in KEY_PROPERTIES:
         assert f"{prop}_error" in r.columns
     soy = r.loc["soybean"]
-    assert soy["verdict_en14214"].startswith("fails (iodine value")
+    assert soy["verdict_en14214"].startswith("fails (cetane number, iodine value")
     assert soy["cost_per_t_fuel"] == pytest.approx(800.0 / soy["fuel_yield_t_per_t_oil"])
     # the table's numbers are the default estimates
     est = long_estimates(_lots([1.0, 1.0, 1.0, 1.0]))

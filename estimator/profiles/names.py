@@ -2,8 +2,9 @@
 
 A species key is a row of ``estimator/tables/species.csv``: a lipid number such
 as ``C18:1``, with ``t`` for the trans row (``C18:1t``), ``OH`` for the hydroxy
-row (``C18:1OH``) and an ``n`` suffix for a positional isomer that has a row of
-its own (``C18:3n6``; plain ``C18:3`` is alpha-linolenic).
+row (``C18:1OH``), ``conj`` for the conjugated row (``C18:3conj``, eleostearic)
+and an ``n`` suffix for a positional isomer that has a row of its own
+(``C18:3n6``, ``C18:1n12`` petroselinic; plain ``C18:3`` is alpha-linolenic).
 
 :func:`canonical_species` accepts
 
@@ -30,13 +31,15 @@ Unit qualifiers such as ``wt%`` are not part of a species name.
 Positional isomers. Double-bond positions count from the carboxyl end (``Δ9``,
 ``cis-9``); an ``n-``/``ω-`` value counts from the methyl end, so
 ``n = carbons - last double-bond position``. When the table has rows for more
-than one positional isomer of a lipid number (``C18:3`` n-3 and ``C18:3n6``),
-the positions or the ``n`` value choose the row, and a bare lipid number means
-the plain key. A cis positional isomer without a row of its own (``C18:1 n-7``
-vaccenic, ``C18:1 n-12`` petroselinic, ``C20:1 n-11``) pools into the plain
-lipid-number key; trans isomers pool the same way into the trans row. A trans
-mark on a species whose table has no trans row (``C18:2 trans``) is an error,
-as is a hydroxy mark on a species without a hydroxy row.
+than one positional isomer of a lipid number (``C18:3`` n-3 and ``C18:3n6``;
+``C18:1`` n-9 and ``C18:1n12`` petroselinic), the positions or the ``n`` value
+choose the row, and a bare lipid number means the plain key. A cis positional
+isomer without a row of its own (``C18:1 n-7`` vaccenic, ``C20:1 n-11``) pools
+into the plain lipid-number key; trans isomers pool the same way into the trans
+row. A conjugated chain (``conj``, ``conjugated``, or positions two apart such
+as ``9c,11t,13t``) chooses the conjugated row whatever its cis/trans marks. A
+trans mark on a species whose table has no trans row (``C18:2 trans``) is an
+error, as is a hydroxy mark on a species without a hydroxy row.
 
 Unidentified mass. ``other``, ``others``, ``unidentified``, ``unknown``,
 ``not identified``, ``rest``, ``minor``, ``sum of minor peaks``,
@@ -54,6 +57,8 @@ Examples
 'C18:3n6'
 >>> canonical_species("C18:1 n-7")
 'C18:1'
+>>> canonical_species("18:1n-12"), canonical_species("C18:3 9c,11t,13t")
+('C18:1n12', 'C18:3conj')
 >>> canonical_species("sum of minor peaks")
 'other'
 >>> canonical_species("C19:0")
@@ -119,6 +124,7 @@ _QUALIFIER = re.compile(
      (?P<sep>[\s,\-+.:;()\[\]{}/_]+)
     |(?P<ester>methyl\s*esters?|fames?|esters?|methyl|me|acid)(?![a-z])
     |(?P<hyd>(?:\d{1,2}\s*-?\s*)?(?:oh|hydroxy))(?![a-z])
+    |(?P<conj>conj(?:ugated)?)(?![a-z])
     |(?:n|omega|w)\s*-?\s*(?P<n>\d{1,2})(?P<ncfg>[ctze])?(?![a-z\d])
     |(?P<allcis>all\s*-?\s*(?:cis|z))(?![a-z])
     |(?P<cis>cis|z)(?![a-z])
@@ -172,6 +178,17 @@ class _Row:
         """Position of the last double bond counted from the methyl end."""
         return self.carbons - max(self.delta) if self.delta else None
 
+    @property
+    def conjugated(self) -> bool:
+        """True for a conjugated chain (double bonds two carbons apart, e.g. 9,11,13)."""
+        return _conjugated(self.delta)
+
+
+def _conjugated(positions: frozenset[int]) -> bool:
+    """Whether double-bond positions are conjugated: two or more, each two after the last."""
+    p = sorted(positions)
+    return len(p) >= 2 and all(b - a == 2 for a, b in zip(p, p[1:]))
+
 
 @dataclass(frozen=True)
 class _Spec:
@@ -183,6 +200,7 @@ class _Spec:
     n: int | None = None
     trans: bool = False
     hydroxyl: bool = False
+    conjugated: bool = False
 
 
 def _fold(text: str) -> str:
@@ -321,7 +339,7 @@ def _parse_lipid(folded: str, core: re.Match[str]) -> _Spec | None:
         return None
     positions: set[int] = set()
     n: int | None = None
-    trans = hydroxyl = False
+    trans = hydroxyl = conjugated = False
     pos = 0
     while pos < len(rest):
         match = _QUALIFIER.match(rest, pos)
@@ -331,6 +349,8 @@ def _parse_lipid(folded: str, core: re.Match[str]) -> _Spec | None:
         groups = match.groupdict()
         if groups["hyd"]:
             hydroxyl = True
+        elif groups["conj"]:
+            conjugated = True
         elif groups["n"]:
             n = int(groups["n"])
             trans |= groups["ncfg"] in ("t", "e")
@@ -344,7 +364,7 @@ def _parse_lipid(folded: str, core: re.Match[str]) -> _Spec | None:
             trans |= groups["qcfg"] in ("t", "e")
         elif groups["pos"]:
             positions.add(int(groups["pos"]))
-    return _Spec(carbons, double_bonds, frozenset(positions), n, trans, hydroxyl)
+    return _Spec(carbons, double_bonds, frozenset(positions), n, trans, hydroxyl, conjugated)
 
 
 def _parse_systematic(tokens: list[str]) -> _Spec | None:
@@ -413,7 +433,15 @@ def _resolve(spec: _Spec, text: str) -> str:
     if not candidates:
         raise _fail(text, f"the species table has no hydroxy isomer of {label}")
     label += "OH" if spec.hydroxyl else ""
-    candidates = [r for r in candidates if r.trans == spec.trans]
+    conjugated = spec.conjugated or (len(spec.positions) == d and _conjugated(spec.positions))
+    if conjugated:
+        # a conjugated chain mixes cis and trans bonds (eleostearic 9c,11t,13t): the
+        # conjugated row is chosen by the chain, whatever trans marks are written
+        candidates = [r for r in candidates if r.conjugated]
+        if not candidates:
+            raise _fail(text, f"the species table has no conjugated isomer of {label}")
+        return candidates[0].key if len(candidates) == 1 else _fail_ambiguous(text, candidates)
+    candidates = [r for r in candidates if r.trans == spec.trans and not r.conjugated]
     if not candidates:
         raise _fail(text, f"the species table has no trans isomer of {label}")
     matches = [r for r in candidates if spec.positions <= r.delta and (n is None or r.n == n)]
@@ -425,6 +453,11 @@ def _resolve(spec: _Spec, text: str) -> str:
     if len(candidates) == 1:
         return candidates[0].key
     raise _fail(text, "ambiguous between " + ", ".join(r.key for r in candidates))
+
+
+def _fail_ambiguous(text: str, rows: list[_Row]) -> str:
+    """Raise the error for a notation that fits several rows equally."""
+    raise _fail(text, "ambiguous between " + ", ".join(r.key for r in rows))
 
 
 def _lipid_close(c: int, d: int, trans: bool, hydroxyl: bool) -> list[str]:

@@ -25,6 +25,7 @@ __all__ = [
     "ramos2009",
     "sarin2009_cloud_point",
     "sarin2009_pour_point",
+    "sarin2009_pour_point_from_cloud_point",
     "saturated_ester_data",
     "saturated_mole_fractions",
 ]
@@ -242,6 +243,56 @@ def sarin2009_pour_point(palmitate_wt_pct):
     return SARIN2009_PP_SLOPE * pame + SARIN2009_PP_INTERCEPT
 
 
+def sarin2009_pour_point_from_cloud_point(cloud_point_C):
+    r"""Pour point from the cloud point, by eliminating C16:0 between Sarin's two fits.
+
+    .. math::
+
+        PP = \frac{0.571}{0.526}\,(CP + 4.992) - 12.240 \approx 1.0856\,CP - 6.821
+
+    Parameters
+    ----------
+    cloud_point_C : array_like
+        Cloud point, e.g. the ideal-solubility cloud point of :func:`imahara2006`,
+        which sees every crystallising ester. [degC]
+
+    Returns
+    -------
+    pour_point_C : ndarray
+        Pour point. [degC]
+
+    Notes
+    -----
+    Sarin et al. fitted both the cloud point and the pour point of the same
+    palm-jatropha-pongamia blends as straight lines in methyl palmitate
+    (:func:`sarin2009_cloud_point`, :func:`sarin2009_pour_point`); eliminating
+    the palmitate content gives the pour point as a straight line in the
+    cloud point (DERIVED). Fed with the ideal-solubility cloud point, the
+    pour point then responds to every saturated ester (stearate, arachidate
+    ...) and to methyl elaidate, not to palmitate alone, so a tallow with
+    20 wt % stearate is seen. Span of Sarin's data in cloud point: about -0.3
+    to 18.7 degC (C16:0 9-45 wt %; DERIVED). Published error: not recorded;
+    coefficients **MEMORY, low confidence** (both lines).
+
+    References
+    ----------
+    .. [1] Sarin A. et al., "Effect of blends of palm-jatropha-pongamia
+       biodiesels on cloud point and pour point", Energy 34 (2009) 2016-2021
+       (from memory).
+
+    Examples
+    --------
+    At the cloud point Sarin's line gives for 44 wt % C16:0 (18.152 degC), the
+    pour point equals Sarin's own pour-point line at 44 wt % (12.884 degC):
+
+    >>> round(float(sarin2009_pour_point_from_cloud_point(18.152)), 3)
+    12.884
+    """
+    cp = np.asarray(cloud_point_C, dtype=float)
+    return SARIN2009_PP_SLOPE / SARIN2009_CP_SLOPE * (cp - SARIN2009_CP_INTERCEPT) + \
+        SARIN2009_PP_INTERCEPT
+
+
 def mole_fractions(wt_pct):
     r"""Mole fractions of the esters from FAME mass %.
 
@@ -287,13 +338,14 @@ def saturated_ester_data():
 
     .. math::
 
-        \mathcal{S} = \{ i : D_i = 0,\ T_{m,i} \text{ and } \Delta H_{fus,i} \text{ tabulated} \}
+        \mathcal{S} = \{ i : T_{m,i} \text{ and } \Delta H_{fus,i} \text{ tabulated} \}
 
     Returns
     -------
     index : ndarray of int
         Column indices (into :func:`estimator.tables.species_keys`) of the
-        saturated esters C12:0-C24:0 that carry both values. [1]
+        esters that carry both values: the saturated esters C12:0-C24:0 and
+        methyl elaidate (C18:1t, melting at 10.3 degC). [1]
     melting_point_C : ndarray
         Melting points of those esters. [degC]
     enthalpy_fusion_kJ_mol : ndarray
@@ -304,8 +356,13 @@ def saturated_ester_data():
     Melting points: CRC Handbook via chemicals 1.5.2 (VERIFIED [S29]); C15:0
     and C17:0 interpolated (DERIVED). Enthalpies of fusion: C16:0 55.0 and
     C18:0 64.0 kJ/mol **MEMORY**; the others DERIVED by a 4.5 kJ/mol CH2
-    increment (``fusion_source`` in ``species.csv``). C6:0-C10:0 melt below
-    -12 degC and carry no enthalpy of fusion, so they only act as solvent.
+    increment (``fusion_source`` in ``species.csv``). Methyl elaidate: CRC
+    melting point (VERIFIED [S29]) and an enthalpy of fusion DERIVED from
+    methyl stearate's entropy of fusion. C6:0-C10:0 melt below -12 degC and
+    the cis unsaturated esters far below any cloud point; they carry no
+    enthalpy of fusion and only act as solvent. Petroselinate and
+    eleostearate have no recorded melting data: the registry flags profiles
+    that contain them.
 
     References
     ----------
@@ -327,8 +384,7 @@ def saturated_ester_data():
 def _saturated_ester_data():
     tm = species_column("melting_point_C")
     dh = species_column("enthalpy_fusion_kJ_mol")
-    sat = species_column("double_bonds") == 0
-    idx = np.flatnonzero(sat & np.isfinite(tm) & np.isfinite(dh))
+    idx = np.flatnonzero(np.isfinite(tm) & np.isfinite(dh))
     out = idx, tm[idx], dh[idx]
     for arr in out:
         arr.setflags(write=False)
@@ -422,9 +478,34 @@ def imahara2006(saturated_mole_fraction, melting_point_C, enthalpy_fusion_kJ_mol
     -----
     Form **MEMORY** (Imahara, Minami & Saka 2006); the enthalpies of fusion
     are partly **MEMORY** and partly DERIVED (see :func:`saturated_ester_data`).
-    Non-ideal solid phases (Costa et al., VERIFIED [S23]) are ignored. No
-    published error recorded. Use :func:`saturated_ester_data` and
+    No published error recorded. Use :func:`saturated_ester_data` and
     :func:`mole_fractions` to build the inputs from a FAME profile.
+
+    *The cloud point is where the first solid appears*, and the first solid
+    is the ester whose own liquidus :math:`T_i` is highest, evaluated at its
+    own (possibly small) mole fraction. Why the maximum and no lower
+    content threshold: each ester can always crystallise as its own pure
+    solid, so no solid phase can appear above the highest :math:`T_i`
+    (eutectic reasoning, immiscible solids); if the saturated esters formed
+    an ideal solid solution instead, the onset condition
+    :math:`\sum_i x_i/x_i^{sat}(T) = 1` would put it at or *above* that
+    maximum, never below (saturated FAME binaries show partial solid
+    solubility, Costa et al., VERIFIED [S23]). No minimum content below
+    which an ester may be ignored is published, so none is applied. The
+    result is continuous in composition; a trace matters only once its own
+    liquidus overtakes that of the main saturated ester: in a soybean
+    ester 0.5 wt % of arachidate and behenate leaves the cloud point
+    unchanged, 0.5 wt % of behenate alone raises it by 0.7 K and 1.5 wt %
+    of arachidate plus behenate by about 4 K. That
+    sensitivity is of the size the long-chain weights of Ramos et al. 2009
+    give for CFPP (C20:0 x 1, C22:0 x 1.5 against C16:0 x 0.1 in the LCSF:
+    +5.9 K for the same addition), so it is kept as physics, not treated
+    as noise; it rests on the DERIVED enthalpies of fusion of C20:0-C24:0.
+    Known biases: the ideal liquid and pure solids ignore the non-ideal
+    solid phases, and a visual cloud point (ASTM D2500) appears after some
+    supercooling, so the liquidus sits above a measured cloud point for
+    palm- and tallow-type esters (about 19 degC against a trade range of
+    13-16 and 13-17 degC, common practice).
 
     References
     ----------

@@ -18,7 +18,7 @@ __all__ = [
     "BAMGBOYE2008_INTERCEPT",
     "bamgboye2008",
     "bamgboye2008_coefficients",
-    "klopfenstein1985",
+    "knothe2005",
     "krisnangkura1986",
     "pure_ester_cetane_numbers",
     "ramirezverduzco2012",
@@ -283,11 +283,16 @@ def ramirezverduzco2012(wt_pct):
 
 
 def pure_ester_cetane_numbers():
-    r"""Pure-ester cetane numbers: tabulated where known, else Ramirez-Verduzco 2012.
+    r"""Pure-ester cetane numbers: measured where tabulated, else a per-ester estimate.
 
     .. math::
 
-        CN_i = CN_i^{table} \text{ if tabulated, else } -7.8 + 0.302\,M_i - 20\,N_i
+        CN_i = \begin{cases}
+        CN_i^{table} & \text{tabulated} \\
+        -7.8 + 0.302\,M_i - 20\,N_i & N_i \le 3 \\
+        CN_j^{table},\ j = \text{measured polyene } (N_j \ge 3) \text{ nearest in chain length}
+        & N_i \ge 4
+        \end{cases}
 
     Returns
     -------
@@ -303,27 +308,47 @@ def pure_ester_cetane_numbers():
     Tabulated values are Knothe's compilation (**MEMORY**), CombustDB via
     chemicals 1.5.2 (VERIFIED [S30]) and Knothe 2012 for C20:4/C22:6
     (VERIFIED [S13]); the choice between conflicting compilations (C7) is
-    recorded per row. The fallback is the Ramirez-Verduzco 2012 per-ester
-    form (**MEMORY, consistency-checked**).
+    recorded per row. The fallback for esters with at most three double
+    bonds is the Ramirez-Verduzco 2012 per-ester form (**MEMORY,
+    consistency-checked**). That form was fitted on esters with at most
+    three double bonds and goes negative beyond (C22:6: -24 against 24.4
+    measured); the measured series C18:3 22.7, C20:4 29.6, C22:6 24.4 shows
+    no further fall with more double bonds, so an untabulated ester with
+    four or more double bonds (C18:4, C20:5, C22:5) takes the value of the
+    measured polyene nearest in chain length (ties: nearest in double
+    bonds): DERIVED, physical (>= 0), and flagged by the registry above
+    10 wt % of untabulated esters.
 
     References
     ----------
     .. [1] Knothe G., "Dependence of biodiesel fuel properties on the
        structure of fatty acid alkyl esters", Fuel Process. Technol. 86
        (2005) 1059-1070 (from memory).
+    .. [2] Knothe G., "Fuel properties of highly polyunsaturated fatty acid
+       methyl esters. Prediction of fuel properties of algal biodiesel",
+       Energy Fuels 26 (2012) 5265-5273 (volume and pages from memory).
 
     Examples
     --------
     >>> cn, tab = pure_ester_cetane_numbers()
     >>> from estimator.tables import species_keys
-    >>> float(cn[species_keys().index("C18:1")]), bool(tab[species_keys().index("C24:0")])
-    (59.3, False)
+    >>> k = species_keys()
+    >>> float(cn[k.index("C18:1")]), bool(tab[k.index("C24:0")]), float(cn[k.index("C20:5")])
+    (59.3, False, 29.6)
     """
-    return tabulated_or_fallback("cetane_number", ramirezverduzco2012_ester)
+    cn, tabulated = tabulated_or_fallback("cetane_number", ramirezverduzco2012_ester)
+    carbons = species_column("carbons")
+    bonds = species_column("double_bonds")
+    measured = np.flatnonzero(tabulated & (bonds >= 3))
+    for i in np.flatnonzero(~tabulated & (bonds >= 4)):  # a handful of table rows
+        nearest = min(measured, key=lambda j: (abs(carbons[j] - carbons[i]),
+                                               abs(bonds[j] - bonds[i])))
+        cn[i] = cn[nearest]
+    return cn, tabulated
 
 
-def klopfenstein1985(wt_pct):
-    r"""Cetane number as the mass-weighted mean of pure-ester cetane numbers.
+def knothe2005(wt_pct):
+    r"""Cetane number as the mass-weighted mean of measured pure-ester cetane numbers.
 
     .. math::
 
@@ -341,20 +366,30 @@ def klopfenstein1985(wt_pct):
 
     Notes
     -----
-    Linear weighting of pure-ester CNs (Klopfenstein-type; Knothe & Razon
-    2017 state that such properties can be calculated from the amounts of
-    the individual esters, VERIFIED [S12]); exact form (mass fractions, no
-    interaction term): **MEMORY**. Pure-ester values from
-    :func:`pure_ester_cetane_numbers`. No published error for the rule; the
-    method inherits the 5-11 unit spread between CN compilations (C7).
+    Named after the source of its numbers: the pure-ester cetane numbers of
+    Knothe's compilation (2005 review, **MEMORY**), completed by CombustDB
+    (VERIFIED [S30]) and Knothe 2012 for C20:4 and C22:6 (VERIFIED [S13]);
+    see :func:`pure_ester_cetane_numbers` for the choice per ester and the
+    fallbacks. Linear weighting: Knothe & Razon 2017 state that properties
+    little influenced by minor components can be calculated from the amounts
+    of the individual esters (VERIFIED [S12]); the same rule was used for
+    cetane numbers of ester mixtures by Klopfenstein 1985 (from memory).
+    Exact form (mass fractions, no interaction term): **MEMORY**. No
+    published error for the rule; the method inherits the 5-11 unit spread
+    between CN compilations (C7). Domain: at most 10 wt % of esters without
+    a measured value.
 
     References
     ----------
-    .. [1] Klopfenstein W.E., "Effect of molecular weights of fatty acid
+    .. [1] Knothe G., "Dependence of biodiesel fuel properties on the
+       structure of fatty acid alkyl esters", Fuel Process. Technol. 86
+       (2005) 1059-1070 (from memory).
+    .. [2] Knothe G., Energy Fuels 26 (2012) 5265-5273 (from memory).
+    .. [3] Knothe G., Razon L.F., "Biodiesel fuels", Prog. Energy Combust.
+       Sci. 58 (2017) 36-59.
+    .. [4] Klopfenstein W.E., "Effect of molecular weights of fatty acid
        esters on cetane numbers as diesel fuels", J. Am. Oil Chem. Soc. 62
        (1985) 1029-1031 (from memory).
-    .. [2] Knothe G., Razon L.F., "Biodiesel fuels", Prog. Energy Combust.
-       Sci. 58 (2017) 36-59.
 
     Examples
     --------
@@ -363,7 +398,7 @@ def klopfenstein1985(wt_pct):
     >>> from estimator.tables import species_keys
     >>> w = np.zeros(len(species_keys()))
     >>> w[[species_keys().index("C16:0"), species_keys().index("C18:1")]] = 50.0
-    >>> round(float(klopfenstein1985(w)), 2)
+    >>> round(float(knothe2005(w)), 2)
     66.9
     """
     cn_i, _ = pure_ester_cetane_numbers()

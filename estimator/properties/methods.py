@@ -60,12 +60,12 @@ PROPERTIES = {
 
 #: Default method per property.
 DEFAULTS = {
-    "cetane_number": "ramirezverduzco2012",
+    "cetane_number": "knothe2005",
     "iodine_value_gI2_100g": "stoichiometric",
     "cfpp_C": "ramos2009",
     "cloud_point_C": "imahara2006",
-    "pour_point_C": "sarin2009",
-    "oxidation_stability_110C_h": "park2008",
+    "pour_point_C": "sarin2009_from_cloud_point",
+    "oxidation_stability_110C_h": "park2008_bape",
     "oxidizability_indicator_wt_pct": "knothe2002",
     "density_15C_kg_m3": "ramirezverduzco2022",
     "kin_viscosity_40C_mm2_s": "allen1999",
@@ -76,9 +76,11 @@ DEFAULTS = {
 #: Why each default was chosen (quoted by the README).
 DEFAULT_REASONS = {
     "cetane_number": (
-        "the only cetane method here with a verified published accuracy (AAD 5.95 %, "
-        "Ramírez-Verduzco 2012); it covers every ester through molar mass and double bonds, "
-        "and is flagged for esters with four or more double bonds"
+        "measured pure-ester cetane numbers, mass-weighted: it stays physical for the "
+        "polyunsaturated esters of fish and algae (Knothe 2012 measured 29.6 for methyl "
+        "arachidonate and 24.4 for DHA methyl ester, where the per-ester form of "
+        "Ramírez-Verduzco 2012 gives 8 and -24) and uses measured values for lauric esters; "
+        "flagged above 10 wt % of esters without a measured value"
     ),
     "iodine_value_gI2_100g": (
         "exact stoichiometry on the FAME basis (one I2 per C=C), the basis of EN 16300; "
@@ -87,15 +89,24 @@ DEFAULT_REASONS = {
     "cfpp_C": (
         "fitted directly on CFPP of vegetable-oil methyl esters and linear in composition "
         "(usable in the least-cost programme); CFPP from the cloud point compounds the error "
-        "of the ideal-solubility cloud point"
+        "of the ideal-solubility cloud point, which runs 3-5 °C above measured cloud points "
+        "of common oils; both miss palm (+4.6 and +16.9 °C against the trade's +10 to +12)"
     ),
     "cloud_point_C": (
         "physically based (ideal solubility of every saturated ester), covers lauric and "
         "long-chain esters and extends to blends with diesel; Sarin 2009 sees palmitate only "
         "and its coefficients are low-confidence recall"
     ),
-    "pour_point_C": "the only pour-point method recorded",
-    "oxidation_stability_110C_h": "the only fitted Rancimat induction-period correlation recorded",
+    "pour_point_C": (
+        "Sarin 2009's pour point-cloud point relation on the ideal-solubility cloud point: "
+        "it sees every saturated ester, where Sarin's palmitate line misses stearate "
+        "(tallow)"
+    ),
+    "oxidation_stability_110C_h": (
+        "induction period inverse to the oxidizability (bis-allylic positions), on Park "
+        "2008's scale: it reaches the short induction periods of linseed and fish esters, "
+        "which Park's asymptote of 2.59 h cannot, and counts every polyene"
+    ),
     "oxidizability_indicator_wt_pct": (
         "counts every methylene-interrupted polyene, so it also ranks fish and algal "
         "profiles; McCormick's OX sees C18 esters only"
@@ -267,8 +278,8 @@ def _cn_bamgboye2008(w, d, t=None):
     return ignition.bamgboye2008(w)
 
 
-def _cn_klopfenstein1985(w, d, t=None):
-    return ignition.klopfenstein1985(w)
+def _cn_knothe2005(w, d, t=None):
+    return ignition.knothe2005(w)
 
 
 def _cn_rv2012(w, d, t=None):
@@ -304,6 +315,10 @@ def _pp_sarin2009(w, d, t=None):
     return cold_flow.sarin2009_pour_point(np.asarray(w)[:, _col("C16:0")])
 
 
+def _pp_sarin2009_from_cloud_point(w, d, t=None):
+    return cold_flow.sarin2009_pour_point_from_cloud_point(_cp_imahara2006(w, d))
+
+
 def _cfpp_ramos2009(w, d, t=None):
     return cold_flow.ramos2009(d["lcsf_wt_pct"])
 
@@ -315,6 +330,10 @@ def _cfpp_from_cloud_point(w, d, t=None):
 def _os_park2008(w, d, t=None):
     w = np.asarray(w)
     return stability.park2008(w[:, _col("C18:2")] + w[:, _col("C18:3")])
+
+
+def _os_park2008_bape(w, d, t=None):
+    return stability.park2008_bape(w)
 
 
 def _ox_mccormick2007(w, d, t=None):
@@ -369,6 +388,15 @@ def _lhv(hhv_function):
 _PUFA4 = Bound("esters with >= 4 C=C", hi=1.0, descriptor="pufa4_wt_pct")
 _HYDROXY = Bound("C18:1OH", hi=1.0, species=("C18:1OH",))
 _MAIN = Bound("C16:0-C18:3 main esters", lo=80.0, species=_MAIN_C16_C18)
+#: Isomers whose melting point is not recorded: the cloud point cannot see them.
+_NO_MELTING = Bound("esters without melting data (petroselinate, eleostearate)", hi=1.0,
+                    species=("C18:1n12", "C18:3conj"))
+_CONJUGATED = Bound("conjugated esters", hi=1.0, species=("C18:3conj",))
+#: Sarin's blends: palm, jatropha, pongamia; their saturated esters other than palmitate
+#: reach about 15 wt % (pongamia's stearate and C20-C24; DERIVED from typical profiles).
+_OTHER_SATURATES = Bound("saturated esters other than C16:0", hi=15.0,
+                         species=tuple(k for k in ("C12:0", "C14:0", "C15:0", "C17:0",
+                                                   "C18:0", "C20:0", "C22:0", "C24:0")))
 
 
 def _untabulated(column: str, label: str) -> Bound:
@@ -413,13 +441,14 @@ def _build() -> dict[str, dict[str, Method]]:
                              species=tuple(ignition.BAMGBOYE2008_COEFFICIENTS)),),
                       "esters outside x2..x8 act only through the intercept (DERIVED)"),
                "MEMORY", "linear in composition; coefficient vector for linear programmes"),
-        Method("cetane_number", "klopfenstein1985", _cn_klopfenstein1985, "1",
-               "Klopfenstein W.E., J. Am. Oil Chem. Soc. 62 (1985) 1029-1031 (from memory); "
-               "pure-ester CNs: Knothe compilation (MEMORY), CombustDB, Knothe 2012",
+        Method("cetane_number", "knothe2005", _cn_knothe2005, "1",
+               "Knothe G., Fuel Process. Technol. 86 (2005) 1059-1070 (pure-ester CNs, from "
+               "memory); Knothe G., Energy Fuels 26 (2012) 5265-5273 (C20:4, C22:6); "
+               "CombustDB via chemicals 1.5.2",
                None, "none",
                Domain((_untabulated("cetane_number", "CN"),),
                       "fallback per-ester CNs outside the table (DERIVED)"),
-               "MEMORY", "mass-weighted pure-ester cetane numbers"),
+               "MEMORY", "mass-weighted measured pure-ester cetane numbers"),
         Method("cetane_number", "ramirezverduzco2012", _cn_rv2012, "1", rv2012,
                5.95, "aad_pct", rv2012_domain, "MEMORY",
                "per-ester CN from molar mass and double bonds, mass-weighted"),
@@ -449,19 +478,30 @@ def _build() -> dict[str, dict[str, Method]]:
         Method("cloud_point_C", "imahara2006", _cp_imahara2006, "°C",
                "Imahara H., Minami E., Saka S., Fuel 85 (2006) 1666-1670 (from memory)",
                None, "none",
-               Domain(basis="physical model; enthalpies of fusion MEMORY/DERIVED"),
-               "MEMORY", "ideal solubility of the saturated esters; NaN if none present"),
+               Domain((_NO_MELTING,), "physical model; enthalpies of fusion MEMORY/DERIVED"),
+               "MEMORY", "ideal solubility of the saturated esters and elaidate; NaN if none"),
         Method("cloud_point_C", "sarin2009", _cp_sarin2009, "°C",
                "Sarin A. et al., Energy 34 (2009) 2016-2021 (from memory)",
                None, "none",
                Domain((Bound("C16:0", lo=9.0, hi=45.0, species=("C16:0",)),),
                       "palm-jatropha-pongamia blends (MEMORY)"),
                "MEMORY", "linear in methyl palmitate; low-confidence coefficients"),
+        Method("pour_point_C", "sarin2009_from_cloud_point", _pp_sarin2009_from_cloud_point,
+               "°C",
+               "Sarin A. et al., Energy 34 (2009) 2016-2021 (from memory), both lines, "
+               "applied to the imahara2006 cloud point",
+               None, "none",
+               Domain((_NO_MELTING,), "pour point-cloud point line DERIVED from Sarin's two "
+                      "fits (MEMORY); cloud point physical"),
+               "MEMORY", "1.0856 CP - 6.82 on the ideal-solubility CP; sees every saturated ester",
+               error_fallback=_pour_point_error,
+               error_note="no published error and no second method: error is the std of "
+                          "the cloud-point methods"),
         Method("pour_point_C", "sarin2009", _pp_sarin2009, "°C",
                "Sarin A. et al., Energy 34 (2009) 2016-2021 (from memory)",
                None, "none",
-               Domain((Bound("C16:0", lo=9.0, hi=45.0, species=("C16:0",)),),
-                      "palm-jatropha-pongamia blends (MEMORY)"),
+               Domain((Bound("C16:0", lo=9.0, hi=45.0, species=("C16:0",)), _OTHER_SATURATES),
+                      "palm-jatropha-pongamia blends (MEMORY); sees palmitate only"),
                "MEMORY", "linear in methyl palmitate; low-confidence coefficients",
                error_fallback=_pour_point_error,
                error_note="no published error and no second method: error is the std of "
@@ -477,6 +517,19 @@ def _build() -> dict[str, dict[str, Method]]:
                "MEMORY", "no antioxidant effects; NaN where C18:2 + C18:3 = 0",
                error_fallback=_park_error,
                error_note="DERIVED RMSE: SD of the fit over its X range x sqrt(1 - R2 0.975)"),
+        Method("oxidation_stability_110C_h", "park2008_bape", _os_park2008_bape, "h",
+               "Park J.-Y. et al., Bioresour. Technol. 99 (2008) 1196-1203 (scale, from "
+               "memory); Knothe G., J. Am. Oil Chem. Soc. 79 (2002) 847-854 (bis-allylic "
+               "positions); Refaat A.A. 2009 quoting Dunn 2008 (monoene rate 1/41)",
+               None, "none",
+               Domain((Bound("bis-allylic position equivalents",
+                             lo=stability.PARK2008_BAPE_RANGE_WT_PCT[0],
+                             hi=stability.PARK2008_BAPE_RANGE_WT_PCT[1],
+                             descriptor="bape_wt_pct"), _PUFA4, _CONJUGATED),
+                      "palm/rapeseed/soybean ester blends (scale DERIVED from Park 2008)"),
+               "MEMORY", "induction period inverse to the oxidizability; NaN for saturated only",
+               error_fallback=_park_error,
+               error_note="DERIVED RMSE of Park 2008 (no error published for this form)"),
         Method("oxidizability_indicator_wt_pct", "knothe2002", _ox_knothe2002,
                "wt % linoleate-eq.",
                "Knothe G., J. Am. Oil Chem. Soc. 79 (2002) 847-854 (pages from memory)",
@@ -580,7 +633,7 @@ def get_method(prop: str, name: str) -> Method:
     Traceback (most recent call last):
     ...
     estimator.errors.UnknownNameError: unknown method 'nope' for cetane_number; valid methods: \
-krisnangkura1986, bamgboye2008, klopfenstein1985, ramirezverduzco2012
+krisnangkura1986, bamgboye2008, knothe2005, ramirezverduzco2012
     """
     methods = methods_for(prop)
     try:

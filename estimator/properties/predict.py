@@ -388,8 +388,8 @@ def wide(long: pd.DataFrame) -> pd.DataFrame:
     >>> w = np.zeros((1, len(species_keys()))); w[0, species_keys().index("C18:1")] = 100.0
     >>> table = wide(estimate(w, ["oleate"]))
     >>> list(table.columns[:3]), table.loc[0, "flags"].split("; ")[0]
-    (['sample', 'cetane_number', 'cetane_number_error'], 'pour_point_C: outside sarin2009 domain \
-(C16:0 < 9 wt %)')
+    (['sample', 'cetane_number', 'cetane_number_error'], 'oxidation_stability_110C_h: outside \
+park2008_bape domain (bis-allylic position equivalents < 11 wt %)')
     """
     missing = [c for c in LONG_COLUMNS if c not in long.columns]
     if missing:

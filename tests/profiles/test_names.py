@@ -107,7 +107,6 @@ POOLED_ISOMERS = [
     # cis positional isomers without a row pool into the plain key (module docstring rule)
     ("C18:1 n-7", "C18:1"),  # vaccenic; common practice
     ("C18:1 cis-11", "C18:1"),  # vaccenic, same bond counted from the carboxyl end
-    ("C18:1 n-12", "C18:1"),  # petroselinic (cis-6); common practice
     ("C20:1 n-11", "C20:1"),  # gadoleic (cis-9-eicosenoic); common practice
     ("C22:1 n-11", "C22:1"),  # cetoleic; common practice
     ("C18:1 trans-11", "C18:1t"),  # trans-vaccenic pools into the trans row
@@ -141,7 +140,7 @@ NAMES = [
     ("hexadecanoic acid", "C16:0"),
     ("cis-9-octadecenoic acid", "C18:1"),
     ("cis-11-eicosenoic acid", "C20:1"),
-    ("cis-6-octadecenoic acid", "C18:1"),  # petroselinic pools into C18:1
+    ("cis-6-octadecenoic acid", "C18:1n12"),  # petroselinic has its own row
     ("trans-9-octadecenoic acid", "C18:1t"),
     ("all-cis-6,9,12-octadecatrienoic acid", "C18:3n6"),
     ("12-hydroxy-cis-9-octadecenoic acid", "C18:1OH"),
@@ -266,15 +265,17 @@ def test_species_spellings_cover_keys_and_synonyms_and_are_a_fresh_copy() -> Non
     [
         ("C19:0", "unknown species 'C19:0'; close matches: C18:0, C20:0"),
         ("C21:0", "unknown species 'C21:0'; close matches: C20:0, C22:0"),
-        ("C19:1", "unknown species 'C19:1'; close matches: C18:1, C20:1"),
+        ("C19:1", "unknown species 'C19:1'; close matches: C18:1, C18:1n12, C20:1"),
         ("nonadecanoic acid", "unknown species 'nonadecanoic acid'; close matches: C18:0, C20:0"),
         ("olec acid", "unknown species 'olec acid'; close matches: oleic (C18:1)"),
         ("palmitc", "unknown species 'palmitc'; close matches: palmitic (C16:0)"),
         ("xyz", "unknown species 'xyz'; no close match in the species table"),
         ("C18:7", "unknown species 'C18:7'; no close match in the species table"),
         ("", "unknown species ''; no close match in the species table"),
-        ("C18:1 foo", "unknown species 'C18:1 foo'; close matches: C18:1, C18:1t, C18:1OH"),
-        ("C18:1+C18:2", "unknown species 'C18:1+C18:2'; close matches: C18:1, C18:1t, C18:1OH"),
+        ("C18:1 foo",
+         "unknown species 'C18:1 foo'; close matches: C18:1, C18:1t, C18:1OH, C18:1n12"),
+        ("C18:1+C18:2",
+         "unknown species 'C18:1+C18:2'; close matches: C18:1, C18:1t, C18:1OH, C18:1n12"),
     ],
 )
 def test_unknown_species_message_names_close_matches(notation: str, message: str) -> None:
@@ -295,8 +296,8 @@ def test_unknown_species_message_names_close_matches(notation: str, message: str
             "unknown species 'C18:2n6t': the species table has no trans isomer of C18:2",
         ),
         (
-            "C18:2 9c,11t",
-            "unknown species 'C18:2 9c,11t': the species table has no trans isomer of C18:2",
+            "C18:2 9c,11t",  # conjugated linoleic: no row of its own
+            "unknown species 'C18:2 9c,11t': the species table has no conjugated isomer of C18:2",
         ),
         (
             "C16:1 trans-9",
@@ -492,3 +493,37 @@ def test_lookup_tables_are_not_built_at_import_time() -> None:
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "0"
+
+
+ISOMER_ROWS = [
+    # isomers with rows of their own (issue 9 point 5): notations as GC reports write them
+    ("petroselinic", "C18:1n12"),  # cis-6-octadecenoic, coriander; common practice
+    ("methyl petroselinate", "C18:1n12"),
+    ("C18:1 cis-6", "C18:1n12"),
+    ("18:1n-12", "C18:1n12"),  # n = 18 - 6
+    ("C18:1 Δ6", "C18:1n12"),
+    ("C18:1 n-9", "C18:1"),  # oleic stays oleic
+    ("elaidic", "C18:1t"),
+    ("C18:1t", "C18:1t"),
+    ("C18:1 trans-9", "C18:1t"),
+    ("eleostearic", "C18:3conj"),  # tung oil; common practice
+    ("alpha-eleostearic acid", "C18:3conj"),
+    ("C18:3 conj", "C18:3conj"),
+    ("C18:3 conjugated", "C18:3conj"),
+    ("C18:3 9c,11t,13t", "C18:3conj"),  # positions two apart: conjugated whatever the marks
+    ("C18:3 n-3", "C18:3"),
+    ("ricinoleic", "C18:1OH"),
+    ("C18:1OH", "C18:1OH"),
+]
+
+
+@pytest.mark.parametrize(("notation", "key"), ISOMER_ROWS)
+def test_isomer_notation_maps_to_its_own_species_row(notation: str, key: str) -> None:
+    assert canonical_species(notation) == key
+
+
+def test_conjugated_mark_on_a_chain_without_a_conjugated_row_is_an_error() -> None:
+    with pytest.raises(UnknownSpeciesError) as err:
+        canonical_species("C18:2 conj")
+    assert str(err.value) == ("unknown species 'C18:2 conj': the species table has no "
+                              "conjugated isomer of C18:2")

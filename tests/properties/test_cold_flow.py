@@ -59,7 +59,7 @@ def test_no_saturated_ester_gives_nan_cloud_point():
     [("C8:0", "111-11-5"), ("C10:0", "110-42-9"), ("C12:0", "111-82-0"), ("C14:0", "124-10-7"),
      ("C16:0", "112-39-0"), ("C18:0", "112-61-8"), ("C18:1", "112-62-9"), ("C18:2", "112-63-0"),
      ("C18:3", "301-00-8"), ("C20:0", "1120-28-1"), ("C22:0", "929-77-1"),
-     ("C22:1", "1120-34-9")],
+     ("C22:1", "1120-34-9"), ("C18:1t", "1937-62-8")],
 )
 def test_melting_points_are_the_crc_values_in_chemicals(key, cas):
     pytest.importorskip("chemicals")
@@ -72,13 +72,15 @@ def test_melting_points_are_the_crc_values_in_chemicals(key, cas):
     assert species_table().loc[key, "melting_point_C"] == pytest.approx(crc, abs=0.051)
 
 
-def test_thermodynamic_data_cover_saturated_c12_to_c24():
+def test_thermodynamic_data_cover_saturated_c12_to_c24_and_elaidate():
     idx, tm, dh = cold_flow.saturated_ester_data()
     covered = {KEYS[i] for i in idx}
     sat = {k for k in KEYS if species_table().loc[k, "double_bonds"] == 0
            and 12 <= species_table().loc[k, "carbons"] <= 24}
-    assert covered == sat
+    assert covered == sat | {"C18:1t"}  # elaidate melts at +10.3 degC (CRC)
     # enthalpy of fusion grows with chain length (DERIVED increment; common practice)
+    idx = np.array([i for i in idx if KEYS[i] in sat])
+    tm, dh = species_column("melting_point_C")[idx], species_column("enthalpy_fusion_kJ_mol")[idx]
     order = np.argsort(species_column("carbons")[idx])
     assert (np.diff(dh[order]) > 0).all() and (np.diff(tm[order]) > 0).all()
 
@@ -133,3 +135,85 @@ def test_more_saturated_esters_never_lower_cfpp_or_cloud_point(xs, fractions):
             if np.isnan(before):
                 continue  # no saturated ester before: nothing to compare
             assert after >= before - 1e-9, (prop, m.name)
+
+
+# ------------------------------------------------- traces, isomers, pour point (issue 9)
+def _cp(w: np.ndarray) -> float:
+    return float(cold_flow.imahara2006(*cold_flow.saturated_mole_fractions(w))[0])
+
+
+def _soybean() -> np.ndarray:
+    from estimator.profiles.profile import Profile
+
+    return Profile.from_oils(["soybean"]).wt_pct
+
+
+def _with(w: np.ndarray, added: dict[str, float]) -> np.ndarray:
+    w = w.copy()
+    for k, v in added.items():
+        w[0, KEYS.index(k)] += v
+    return 100.0 * w / w.sum()
+
+
+def test_cloud_point_is_robust_to_half_percent_traces_of_long_chain_esters():
+    base = _cp(_soybean())
+    assert _cp(_with(_soybean(), {"C20:0": 0.25, "C22:0": 0.25})) == pytest.approx(base, abs=0.1)
+    assert _cp(_with(_soybean(), {"C20:0": 0.5})) == pytest.approx(base, abs=0.1)
+    assert _cp(_with(_soybean(), {"C22:0": 0.5})) - base < 1.0  # behenate's liquidus: +0.7 K
+
+
+def test_cloud_point_response_to_long_chain_esters_is_continuous_and_of_ramos_size():
+    # the response grows smoothly (no step) with the C20:0 + C22:0 content ...
+    added = np.linspace(0.0, 1.5, 31)
+    cps = np.array([_cp(_with(_soybean(), {"C20:0": a / 2, "C22:0": a / 2})) for a in added])
+    assert (np.diff(cps) > -0.05).all() and np.abs(np.diff(cps)).max() < 0.8
+    # ... and at 1.5 wt % is no larger than what the LCSF weights of Ramos et al. 2009
+    # (C20:0 x 1, C22:0 x 1.5; MEMORY) give for CFPP with the slope 3.1417 degC per LCSF
+    ramos = 3.1417 * (0.75 * 1.0 + 0.75 * 1.5)
+    assert 0.0 < cps[-1] - cps[0] <= ramos
+
+
+def test_pure_methyl_elaidate_clouds_at_its_crc_melting_point():
+    # CRC Handbook via chemicals 1.5.2: methyl elaidate (CAS 1937-62-8) melts at 283.45 K
+    assert _cp(comp({"C18:1t": 100.0})) == pytest.approx(283.45 - 273.15, abs=0.051)
+    # a partly hydrogenated ester: 20 % elaidate in oleate clouds far above the -19.7 degC
+    # at which methyl oleate itself melts (CRC via chemicals 1.5.2)
+    assert _cp(comp({"C18:1t": 20.0, "C18:1": 80.0})) > -19.7 + 10.0
+
+
+@pytest.mark.parametrize("key", ["C18:1n12", "C18:3conj"])
+def test_isomers_without_melting_data_are_flagged_by_the_cloud_point(key):
+    w = comp({key: 30.0, "C18:1": 60.0, "C16:0": 10.0})
+    for name in ("imahara2006",):
+        m = methods_for("cloud_point_C")[name]
+        assert not m.in_domain(w, descriptors(w))[0]
+    assert methods_for("cloud_point_C")["imahara2006"].in_domain(
+        comp({"C18:1": 90.0, "C16:0": 10.0}), descriptors(comp({"C18:1": 90.0, "C16:0": 10.0})))[0]
+
+
+def test_pour_point_from_cloud_point_reproduces_sarins_two_lines():
+    # Sarin et al. 2009 (MEMORY): CP = 0.526 PAME - 4.992 and PP = 0.571 PAME - 12.240;
+    # at any palmitate content the derived line maps Sarin's CP onto Sarin's PP
+    pame = np.array([9.0, 20.0, 45.0])
+    cp = cold_flow.sarin2009_cloud_point(pame)
+    np.testing.assert_allclose(cold_flow.sarin2009_pour_point_from_cloud_point(cp),
+                               cold_flow.sarin2009_pour_point(pame), atol=1e-9)
+
+
+def test_default_pour_point_sees_stearate_and_palmitate_only_line_is_flagged_for_tallow():
+    from estimator.profiles.profile import Profile
+
+    tallow = Profile.from_oils(["beef-tallow"]).wt_pct
+    d = descriptors(tallow)
+    by_cloud = methods_for("pour_point_C")["sarin2009_from_cloud_point"]
+    palmitate_only = methods_for("pour_point_C")["sarin2009"]
+    # swapping palmitate for stearate at equal mass raises the default pour point ...
+    more_stearate = tallow.copy()
+    more_stearate[0, KEYS.index("C16:0")] -= 5.0
+    more_stearate[0, KEYS.index("C18:0")] += 5.0
+    assert by_cloud.evaluate(more_stearate, descriptors(more_stearate))[0] > \
+        by_cloud.evaluate(tallow, d)[0] + 1.0
+    # ... while the palmitate-only line falls and says it is outside its domain
+    assert palmitate_only.evaluate(more_stearate, descriptors(more_stearate))[0] < \
+        palmitate_only.evaluate(tallow, d)[0]
+    assert not palmitate_only.in_domain(tallow, d)[0]

@@ -32,17 +32,16 @@ def comp(mapping: dict[str, float]) -> np.ndarray:
 def test_polyunsaturated_cetane_knothe2012(key, published):
     w = comp({key: 100.0})
     desc = descriptors(w)
-    # the pure-ester weighting reproduces the measured value (it is the tabulated value;
-    # this checks the lookup and the weighting), to the published 0.1
-    weighted = get_method("cetane_number", "klopfenstein1985")
-    assert weighted.evaluate(w, desc)[0] == pytest.approx(published, abs=0.05)
-    assert weighted.in_domain(w, desc)[0]
-    # the default per-ester correlation is far off for >= 4 C=C and is flagged out of domain
+    # the default, the pure-ester weighting, gives the measured value (it is the tabulated
+    # value; this checks the lookup, the weighting and the default), to the published 0.1
     row = estimate(w, [key]).query("property == 'cetane_number'").iloc[0]
-    assert row["method"] == "ramirezverduzco2012"
-    assert not row["in_domain"]
-    assert abs(row["value"] - published) > 10
-    assert "esters with >= 4 C=C > 1 wt %" in row["note"]
+    assert row["method"] == "knothe2005"
+    assert row["value"] == pytest.approx(published, abs=0.05)
+    assert row["in_domain"]
+    # the per-ester correlation is far off for >= 4 C=C and is flagged out of domain
+    rv = get_method("cetane_number", "ramirezverduzco2012")
+    assert abs(rv.evaluate(w, desc)[0] - published) > 10
+    assert not rv.in_domain(w, desc)[0]
 
 
 @pytest.mark.parametrize(
@@ -128,3 +127,32 @@ def test_cetane_methods_agree_on_soybean_within_their_spread():
     w = comp({"C16:0": 10.3, "C18:0": 3.9, "C18:1": 23.7, "C18:2": 54.3, "C18:3": 6.8})
     long = estimate(w, ["soy"], methods="all").query("property == 'cetane_number'")
     assert long["value"].between(44.0, 60.0).all()
+
+
+def test_knothe2005_pure_ester_cetane_numbers_stay_physical_for_every_species():
+    cn, tabulated = ignition.pure_ester_cetane_numbers()
+    assert (cn >= 0).all()
+    # the per-ester correlation alone goes negative beyond three C=C (C22:6: -24 against
+    # 24.4 measured, Knothe 2012 VERIFIED [S13]); the fallback does not
+    rv = ignition.ramirezverduzco2012_ester(species_column("fame_molar_mass_g_mol"),
+                                            species_column("double_bonds"))
+    assert rv[KEYS.index("C22:6")] < 0
+
+
+@pytest.mark.parametrize(("key", "nearest_measured"), [
+    ("C20:5", 29.6),  # C20:4 methyl arachidonate, Knothe 2012 (VERIFIED [S13])
+    ("C22:5", 24.4),  # C22:6 DHA methyl ester, Knothe 2012 (VERIFIED [S13])
+    ("C18:4", 22.7),  # C18:3 methyl linolenate, Knothe compilation (MEMORY)
+])
+def test_untabulated_polyenes_take_the_nearest_measured_polyene(key, nearest_measured):
+    cn, tabulated = ignition.pure_ester_cetane_numbers()
+    assert not tabulated[KEYS.index(key)]
+    assert cn[KEYS.index(key)] == pytest.approx(nearest_measured, abs=0.05)
+
+
+def test_default_cetane_of_coconut_ester_is_in_the_trade_range():
+    from estimator.profiles.profile import Profile
+
+    w = Profile.from_oils(["coconut"]).wt_pct
+    cn = estimate(w, ["coconut"]).query("property == 'cetane_number'")["value"].iloc[0]
+    assert 60.0 <= cn <= 70.0  # coconut FAME cetane number 60-70 (common practice, from memory)

@@ -78,7 +78,9 @@ def test_blend_curves_shade_the_error_band_for_few_samples_only():
 
 def test_mix_shares_shows_every_lot_and_every_limit():
     lots = read_profile(DEMO / "lots.csv", basis="fatty-acid")
-    result = m.least_cost_mix(lots, m.mix_constraints("en14214", max_cfpp_C=-5), demand_t=1500)
+    # Park's linear Rancimat form: with the default (park2008_bape) the demo lots miss 8 h
+    result = m.least_cost_mix(lots, m.mix_constraints("en14214", max_cfpp_C=-5), demand_t=1500,
+                              methods={"oxidation_stability_110C_h": "park2008"})
     fig = mix_shares(result)
     left, right = fig.axes
     assert [t.get_text() for t in left.get_yticklabels()] == list(result.lots["lot"])
