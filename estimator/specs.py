@@ -1,4 +1,4 @@
-"""Specification limits and the verdict of each estimate against them.
+r"""Specification limits and the verdict of each estimate against them.
 
 The limits live in ``estimator/tables/specs.csv``: one row per limit (a minimum or
 a maximum) with its specification key (``en14214``, ``astm-d6751``, ``en590``,
@@ -365,7 +365,7 @@ def probability_meets(value: np.ndarray, error: np.ndarray, limit: np.ndarray,
     limit = np.asarray(limit, dtype=float)
     band = np.nan_to_num(np.asarray(error, dtype=float), nan=0.0)
     margin = np.where(is_min, value - limit, limit - value)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         p = np.where(band > 0, ndtr(margin / np.where(band > 0, band, 1.0)),
                      (margin >= 0).astype(float))
     return np.where(np.isnan(value), np.nan, p)

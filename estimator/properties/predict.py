@@ -253,6 +253,28 @@ def estimate(
     }, columns=list(LONG_COLUMNS))
 
 
+class _LazyDescriptors(Mapping):
+    """The descriptors of a composition, computed on first access (most methods need none)."""
+
+    def __init__(self, w: np.ndarray) -> None:
+        self._w = w
+        self._d: dict[str, np.ndarray] | None = None
+
+    def _all(self) -> dict[str, np.ndarray]:
+        if self._d is None:
+            self._d = descriptors(self._w)
+        return self._d
+
+    def __getitem__(self, key: str) -> np.ndarray:
+        return self._all()[key]
+
+    def __iter__(self):
+        return iter(self._all())
+
+    def __len__(self) -> int:
+        return len(self._all())
+
+
 @dataclass(frozen=True)
 class _Block:
     """One property estimated by one method for every sample."""
@@ -294,11 +316,13 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
 
     comp_sd: dict[tuple[str, str], np.ndarray] = {}
     if gc is not None and gc.active and n:
-        def evaluate_all(ww):
-            dd = descriptors(ww)
+        keyed = {(name, m): (base, t) for (name, base, t) in tasks for m in chosen[base]}
+
+        def evaluate_all(ww, names=None):
+            dd = _LazyDescriptors(ww)
             with np.errstate(all="ignore"):
-                return {key: methods_for(base)[key[1]].evaluate(ww, dd, t)
-                        for (name, base, t) in tasks for key in [(name, m) for m in chosen[base]]}
+                return {key: methods_for(keyed[key][0])[key[1]].evaluate(ww, dd, keyed[key][1])
+                        for key in (keyed if names is None else names)}
         comp_sd = composition_sd(evaluate_all, w, gc)
 
     blocks = []
