@@ -143,7 +143,6 @@ def methods(prop, output) -> None:
     """
     from estimator.errors import UnknownNameError
     from estimator.properties.methods import DEFAULT_REASONS, PROPERTIES, list_methods
-
     from estimator.properties.uncertainty import band_rows
 
     table = list_methods().merge(band_rows()[["property", "method", "n_validation",

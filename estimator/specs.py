@@ -27,9 +27,9 @@ given in the column ``probability_meets`` (1 or 0 without a band). The verdict:
 * ``too close to call`` in between, i.e. when the limit lies within 1.28 standard
   uncertainties of the estimate (the cut: neither outcome is 9 times likelier than
   the other);
-* ``outside method range`` for an estimate outside its method's fitted domain,
-  whatever :math:`p` (computed with the widened band) says: such a number must not
-  decide as if it were inside. It is never ``meets``.
+* ``outside method range`` for an estimate outside its method's fitted domain:
+  such a number must not decide as if it were inside. It is never ``meets``, and
+  its ``probability_meets`` is left empty (NaN): the estimate gives no probability.
 
 Properties the composition fixes exactly (linolenic acid methyl ester and the
 esters with four or more double bonds, which EN 14214 limits on the GC result)
@@ -336,7 +336,9 @@ def check(
     merged["error"] = error
     is_min = merged["bound"].to_numpy() == "min"
     inside = merged["in_domain"].astype(bool).to_numpy() | exact
-    merged["probability_meets"] = probability_meets(value, error, limit, is_min)
+    # outside the method's range the estimate gives no probability (NaN, printed blank)
+    merged["probability_meets"] = np.where(
+        inside, probability_meets(value, error, limit, is_min), np.nan)
     merged["verdict"] = _verdicts(value, error, limit, is_min, inside)
     merged = merged.rename(columns={"value": "estimate"})
     order_s = {s: i for i, s in enumerate(samples)}

@@ -323,7 +323,7 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
             with np.errstate(all="ignore"):
                 return {key: methods_for(keyed[key][0])[key[1]].evaluate(ww, dd, keyed[key][1])
                         for key in (keyed if names is None else names)}
-        comp_sd = composition_sd(evaluate_all, w, gc)
+        comp_sd = composition_sd(evaluate_all, w, gc, base={k: evaluated[k] for k in keyed})
 
     blocks = []
     for name, base, t in tasks:

@@ -195,6 +195,7 @@ def composition_sd(
     how: str = "linear",
     draws: int = 400,
     seed: int | None = 0,
+    base: Mapping[str, np.ndarray] | None = None,
 ) -> dict[str, np.ndarray]:
     """Standard deviation of each estimate caused by the GC repeatability.
 
@@ -215,6 +216,8 @@ def composition_sd(
         Monte Carlo draws.
     seed : int or None
         Seed of the Monte Carlo generator (same seed, same result).
+    base : mapping, optional
+        ``evaluate(wt_pct)`` when the caller has it already.
 
     Returns
     -------
@@ -231,7 +234,8 @@ def composition_sd(
     0.53
     """
     w = np.asarray(wt_pct, dtype=float)
-    base = {k: np.asarray(v, dtype=float) for k, v in evaluate(w).items()}
+    base = {k: np.asarray(v, dtype=float)
+            for k, v in (evaluate(w) if base is None else base).items()}
     if not gc.active or w.shape[0] == 0:
         return {k: np.where(np.isfinite(v), 0.0, np.nan) for k, v in base.items()}
     sd = gc.sd(w)
