@@ -470,7 +470,7 @@ def method_band(prop: str, name: str) -> Band:
             borrowed = True
     fallback = "" if borrowed else (
         "the std of the property's methods" if len(methods_for(prop)) >= 2
-        else m.error_note or "")
+        else "the method's own stated fallback error" if m.error_fallback is not None else "")
     if fallback:
         parts.append(fallback)
     if not candidates and relative is None:
