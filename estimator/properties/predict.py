@@ -26,8 +26,15 @@ import numpy as np
 import pandas as pd
 
 from estimator.errors import ProfileError, UnknownNameError, UsageError
-from estimator.properties.descriptors import descriptors
-from estimator.properties.methods import DEFAULTS, PROPERTIES, Method, get_method, methods_for
+from estimator.properties.descriptors import DESCRIPTOR_UNITS, descriptors
+from estimator.properties.methods import (
+    CLOUD_POINT_KEY,
+    DEFAULTS,
+    PROPERTIES,
+    Method,
+    get_method,
+    methods_for,
+)
 from estimator.properties.uncertainty import (
     DEFAULT_GC,
     OUT_OF_DOMAIN_FACTOR,
@@ -266,6 +273,8 @@ class _LazyDescriptors(Mapping):
         return self._d
 
     def __getitem__(self, key: str) -> np.ndarray:
+        if key not in DESCRIPTOR_UNITS:
+            raise KeyError(key)  # e.g. a cache key some wrapper looks for: not computed here
         return self._all()[key]
 
     def __iter__(self):
@@ -304,15 +313,15 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
             if name not in PROPERTIES and name not in {x[0] for x in tasks}:
                 tasks.append((name, base, t))
 
+    # the ideal-solubility cloud point once: the cloud point itself, the CFPP-from-cloud-point
+    # method and the curve points' check all read it through ``desc``
+    cloud = methods_for("cloud_point_C")[DEFAULTS["cloud_point_C"]].evaluate(w, desc)
+    desc = {**desc, CLOUD_POINT_KEY: cloud}
     # only the chosen methods are evaluated; the others only where a band needs them
     evaluated: dict[tuple[str, str], np.ndarray] = {}
     for name, base, t in tasks:
         for mname in chosen[base]:
             evaluated[name, mname] = methods_for(base)[mname].evaluate(w, desc, t)
-    cp_default = DEFAULTS["cloud_point_C"]
-    cloud = evaluated.get(("cloud_point_C", cp_default))
-    if cloud is None and temps:
-        cloud = methods_for("cloud_point_C")[cp_default].evaluate(w, desc)  # computed once
 
     comp_sd: dict[tuple[str, str], np.ndarray] = {}
     if gc is not None and gc.active and n:
@@ -343,9 +352,9 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
             for _, mask in violations:
                 inside &= ~mask
 
-            def spread_of(rows, base=base, t=t):
+            def spread_of(rows, base=base, t=t, mname=mname, values=values):
                 sub = {k: np.asarray(v)[rows] for k, v in desc.items()}
-                return spread_of_methods(base, w[rows], sub, t)
+                return spread_of_methods(base, w[rows], sub, t, known={mname: values[rows]})
 
             err, err_text = _method_error(m, base, values, inside, w, desc, t, spread_of)
             if (name, mname) in comp_sd:

@@ -152,31 +152,56 @@ def _renormalise(w: np.ndarray) -> np.ndarray:
     return w * (100.0 / np.where(s > 0, s, 1.0))
 
 
+#: Mixing rules recognised from the pure-ester values: name -> (g, inverse of g). A method
+#: with f(w) = g^-1(sum_i w_i g(f_i) / 100) (mass-weighted mean, logarithmic mixing, ideal
+#: mixing of volumes) is perturbed exactly through its pure-ester values.
+_MIXING_RULES = {
+    "linear": (lambda f: f, lambda y: y),
+    "logarithmic": (np.log, np.exp),
+    "reciprocal": (lambda f: 1.0 / f, lambda y: 1.0 / y),
+}
+
+
+def _mixing_rule(fp: np.ndarray, w: np.ndarray, v: np.ndarray):
+    """(g, g^-1, g(fp)) of the rule the values follow on these rows, or None."""
+    if not (np.isfinite(fp).all() and np.isfinite(v).all()):
+        return None
+    scale = max(float(np.max(np.abs(v), initial=0.0)), 1.0)
+    for name, (g, ginv) in _MIXING_RULES.items():
+        if name != "linear" and not (fp > 0).all():
+            continue
+        gp = g(fp)
+        with np.errstate(all="ignore"):
+            pred = ginv(w @ gp / 100.0)
+        if np.allclose(pred, v, rtol=0.0, atol=1e-9 * scale):
+            return g, ginv, gp
+    return None
+
+
 def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
     """One-sigma finite differences per present species, combined in quadrature.
 
-    A method that is linear in the composition (checked here, on these rows: its value
-    equals the mass-weighted mean of its pure-ester values) gets the exact difference
-    from its pure-ester values instead of one more evaluation per species.
+    A method that is a mixing rule of its pure-ester values (checked here, on these
+    rows: linear, logarithmic or reciprocal mass-weighted mean) is moved exactly
+    through those values instead of being evaluated once more per species.
     """
     n_species = w.shape[1]
     pure = evaluate(100.0 * np.eye(n_species))
-    linear = {}
+    rules = {}
     for k, v in base.items():
-        fp = np.asarray(pure[k], dtype=float)
-        if np.isfinite(fp).all() and np.isfinite(v).all():
-            pred = w @ fp / 100.0
-            scale = max(float(np.max(np.abs(v), initial=0.0)), 1.0)
-            if np.allclose(pred, v, rtol=0.0, atol=1e-9 * scale):
-                linear[k] = fp
+        rule = _mixing_rule(np.asarray(pure[k], dtype=float), w, v)
+        if rule is not None:
+            g, ginv, gp = rule
+            rules[k] = (ginv, gp, w @ gp / 100.0)
     var = {k: np.zeros_like(v) for k, v in base.items()}
-    rest = [k for k in base if k not in linear]
+    rest = [k for k in base if k not in rules]
     for j in np.flatnonzero((sd > 0).any(axis=0)):
         h = sd[:, j]
         shrink = 100.0 / (100.0 + h)
-        for k, fp in linear.items():
-            d = shrink * h * (fp[j] - base[k]) / 100.0
-            var[k] += d * d
+        for k, (ginv, gp, mean) in rules.items():
+            with np.errstate(all="ignore"):
+                d = ginv(shrink * (mean + h * gp[j] / 100.0)) - base[k]
+            var[k] += np.where(np.isfinite(d), d * d, 0.0)
         if rest:
             step = w.copy()
             step[:, j] += h
@@ -495,11 +520,18 @@ def band_rows() -> pd.DataFrame:
 
 def spread_of_methods(prop: str, w: np.ndarray, desc: Mapping[str, np.ndarray],
                       temperature_C: float | None = None,
-                      names: Sequence[str] | None = None) -> np.ndarray:
-    """Population std over the property's methods (finite values; NaN below two)."""
+                      names: Sequence[str] | None = None,
+                      known: Mapping[str, np.ndarray] | None = None) -> np.ndarray:
+    """Population std over the property's methods (finite values; NaN below two).
+
+    ``known`` holds values the caller has already computed, by method name.
+    """
+    known = known or {}
     ms = [m for m in methods_for(prop).values() if names is None or m.name in names]
     with np.errstate(all="ignore"):
-        stack = np.column_stack([m.evaluate(w, desc, temperature_C) for m in ms])
+        stack = np.column_stack([
+            np.asarray(known[m.name], dtype=float) if m.name in known
+            else m.evaluate(w, desc, temperature_C) for m in ms])
     ok = np.isfinite(stack)
     count = ok.sum(axis=1)
     safe = np.maximum(count, 1)

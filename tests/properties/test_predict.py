@@ -238,3 +238,40 @@ def test_fast_wide_table_equals_the_wide_view_of_the_long_table():
     slow = wide(estimate(p.wt_pct, p.samples, temperatures_C=[-5, 20]))
     fast = estimate_wide(p.wt_pct, p.samples, temperatures_C=[-5, 20])
     pd.testing.assert_frame_equal(fast, slow)
+
+
+def test_default_path_evaluates_alternatives_only_where_the_band_needs_them(monkeypatch):
+    # issue 11 point 7: no alternative method runs for an in-domain sample whose default
+    # band comes from evidence; the viscosity alternatives are such a case for soybean
+    from estimator.properties import methods as registry_module
+
+    calls = {"n": 0}
+    original = registry_module.transport.krisnangkura2006
+
+    def counting(*args, **kwargs):
+        calls["n"] += 1
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(registry_module.transport, "krisnangkura2006", counting)
+    w = matrix({"soybean": OILS["soybean"]})
+    estimate(w, ["soy"])
+    assert calls["n"] == 0
+    estimate(w, ["soy"], methods="all")
+    assert calls["n"] >= 1  # and it does run when asked for
+
+
+def test_ideal_solubility_cloud_point_is_computed_once(monkeypatch):
+    from estimator.properties import cold_flow
+
+    calls = {"n": 0}
+    original = cold_flow.imahara2006
+
+    def counting(*args, **kwargs):
+        calls["n"] += 1
+        return original(*args, **kwargs)
+
+    w = matrix({"soybean": OILS["soybean"], "rapeseed": OILS["rapeseed"]})
+    estimate(w, ["soy", "rape"], gc=None)  # the bands' validation residuals: once per process
+    monkeypatch.setattr(cold_flow, "imahara2006", counting)
+    estimate(w, ["soy", "rape"], temperatures_C=[-10, 0, 20], gc=None)
+    assert calls["n"] == 1  # the cloud point itself and the curve-point check share it
