@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import time
-
 import numpy as np
 import pandas as pd
 import pytest
@@ -195,18 +193,16 @@ def test_rapeseed_inside_en14214(table):
 
 
 @pytest.mark.slow
-def test_100k_samples_estimate_quickly():
+def test_100k_samples_give_one_finite_row_each():
+    # speed is measured by scripts/bench_predict.py, never by a timed test (developers' rules)
     rng = np.random.default_rng(3)
     big = np.repeat(W[:6], 100_000 // 6 + 1, axis=0)[:100_000]
     big = big * rng.uniform(0.9, 1.1, big.shape)
     big = 100 * big / big.sum(axis=1, keepdims=True)
     ids = np.arange(100_000)
-    start = time.perf_counter()
-    long = estimate(big, ids)
-    table = wide(long)
-    elapsed = time.perf_counter() - start
+    table = wide(estimate(big, ids))
     assert len(table) == 100_000
-    assert elapsed < 10.0  # measured ~1.2 s on the dev machine; generous for CI
+    assert np.isfinite(table["cetane_number_error"]).all()
 
 
 def test_wide_of_all_methods_shows_the_defaults():
