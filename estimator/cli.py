@@ -72,9 +72,11 @@ def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
             methods, temperatures, models, output) -> None:
     """Fuel-property estimates and composition descriptors for each sample.
 
-    Each estimate comes from a published correlation (see 'fame-estimator methods')
-    with its stated error; estimates outside the range a method was fitted on are
-    listed under 'flags'.
+    Each estimate comes from a published correlation (see 'fame-estimator methods');
+    its ± (the '_error' column) is one standard uncertainty: the method's band from
+    published validation or from the project's validation tables, widened outside
+    the method's fitted range, combined with the GC repeatability of the profile.
+    Estimates outside the range a method was fitted on are listed under 'flags'.
 
     \b
     Examples:
@@ -191,8 +193,11 @@ def methods(prop, output) -> None:
     """
     from estimator.errors import UnknownNameError
     from estimator.properties.methods import DEFAULT_REASONS, PROPERTIES, list_methods
+    from estimator.properties.uncertainty import band_rows
 
-    table = list_methods()
+    table = list_methods().merge(band_rows()[["property", "method", "n_validation",
+                                              "band_evidence"]],
+                                 on=["property", "method"], how="left")
     if prop:
         if prop not in PROPERTIES:
             raise UnknownNameError(
@@ -202,6 +207,9 @@ def methods(prop, output) -> None:
     if output:
         emit(table.reset_index(drop=True), output)
         return
+    click.echo("Every ± printed is one standard uncertainty (one standard deviation). The\n"
+               "band of each method below comes from the evidence named; outside a method's\n"
+               "fitted domain it is tripled, and the GC repeatability of the profile is added.")
     for name, group in table.groupby("property", sort=False):
         unit = group["unit"].iloc[0]
         click.echo(f"\n{name} [{unit}]")
@@ -211,6 +219,7 @@ def methods(prop, output) -> None:
             click.echo(f"  {mark} {row['method']:<22} {row['provenance']:<8} {err}")
             click.echo(f"      {row['citation']}")
             click.echo(f"      fitted domain: {row['domain'] or 'not stated'}")
+            click.echo(f"      band (1 SD): {row['band_evidence']}")
         reason = DEFAULT_REASONS.get(name)
         if reason:
             click.echo(f"    default (*) because: {reason}")

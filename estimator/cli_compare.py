@@ -97,8 +97,10 @@ def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_
           spec_names, climate_class, strict, output) -> None:
     """Check each sample's estimated fuel against specification limits.
 
-    Every estimate is compared with every limit: 'meets', 'fails', or 'too close to
-    call' when the limit lies inside the estimate ± its stated error. Limits the
+    Every estimate (± one standard uncertainty) is compared with every limit and
+    given the probability that the fuel meets it: 'meets' at 0.9 or more, 'fails'
+    at 0.1 or less, 'too close to call' in between; 'outside method range' when the
+    estimate lies outside its method's fitted range (it never meets). Limits the
     profile fixes exactly (linolenic ester, esters with four or more double bonds)
     have no error band. A failed verdict is not an error: the exit status is 0
     unless --strict is given.
@@ -137,6 +139,8 @@ def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_
             "limit": [f"{sign[b]} {v:g}" for b, v in zip(table["bound"], table["limit"])],
             "unit": table["unit"].replace({"1": "-"}),
             "verdict": table["verdict"],
+            "probability_meets": [("" if pd.isna(p) else f"{p:.2f}")
+                                  for p in table["probability_meets"]],
             "domain": table["in_domain"].map({True: "", False: "outside fitted domain"}),
         })
         from estimator.report.tables import format_table

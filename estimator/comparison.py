@@ -50,7 +50,10 @@ SPEC_LABELS = {
     "astm-d7467": "ASTM D7467",
 }
 
-_GROUP_ORDER = {"meets": 0, "too close to call": 1, "not estimated": 2, "fails": 3}
+# an estimate outside its method's range groups with "too close to call" (listed first,
+# so the inverse mapping below names group 1 "too close to call")
+_GROUP_ORDER = {"meets": 0, "outside method range": 1, "too close to call": 1,
+                "not estimated": 2, "fails": 3}
 
 
 @dataclass(frozen=True)

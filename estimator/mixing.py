@@ -717,7 +717,7 @@ def _finish(profile, problem: _Problem, valued, shares, feasible, message, solve
 def _target_verdicts(long: pd.DataFrame, targets: Sequence[Constraint]) -> pd.DataFrame | None:
     """Verdicts of the mix against the user's own targets (--max-cfpp ...), like ``check``."""
     from estimator.properties.methods import DEFAULTS
-    from estimator.specs import CHECK_COLUMNS, _verdicts
+    from estimator.specs import CHECK_COLUMNS, _verdicts, probability_meets
 
     rows = []
     for c in targets:
@@ -734,6 +734,9 @@ def _target_verdicts(long: pd.DataFrame, targets: Sequence[Constraint]) -> pd.Da
     if not rows:
         return None
     frame = pd.DataFrame(rows)
-    frame["verdict"] = _verdicts(frame["estimate"].to_numpy(float), frame["error"].to_numpy(float),
-                                 frame["limit"].to_numpy(float), frame["bound"].to_numpy() == "min")
+    args = (frame["estimate"].to_numpy(float), frame["error"].to_numpy(float),
+            frame["limit"].to_numpy(float), frame["bound"].to_numpy() == "min")
+    inside = frame["in_domain"].to_numpy(bool)
+    frame["verdict"] = _verdicts(*args, inside)
+    frame["probability_meets"] = np.where(inside, probability_meets(*args), np.nan)
     return frame[CHECK_COLUMNS]

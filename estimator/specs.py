@@ -1,4 +1,4 @@
-"""Specification limits and the verdict of each estimate against them.
+r"""Specification limits and the verdict of each estimate against them.
 
 The limits live in ``estimator/tables/specs.csv``: one row per limit (a minimum or
 a maximum) with its specification key (``en14214``, ``astm-d6751``, ``en590``,
@@ -11,12 +11,25 @@ same property and bound.
 
 Verdicts
 --------
-For an estimate :math:`x` with stated error :math:`e` against a limit :math:`L`:
+Every ``error`` is one standard uncertainty (one standard deviation). For an
+estimate :math:`x` with error :math:`\sigma` against a limit :math:`L`, the
+probability that the property meets the limit, under a normal error, is
 
-* ``too close to call`` when the limit lies strictly inside the band,
-  :math:`|x - L| < e`;
-* otherwise ``meets`` when :math:`x \\ge L` (minimum) or :math:`x \\le L` (maximum),
-  else ``fails``.
+.. math::
+
+    p = \Phi\left(\frac{x - L}{\sigma}\right) \text{ (minimum)}, \qquad
+    p = \Phi\left(\frac{L - x}{\sigma}\right) \text{ (maximum)},
+
+given in the column ``probability_meets`` (1 or 0 without a band). The verdict:
+
+* ``meets`` when :math:`p \ge 0.9` (:data:`MEETS_AT`);
+* ``fails`` when :math:`p \le 0.1` (:data:`FAILS_AT`);
+* ``too close to call`` in between, i.e. when the limit lies within 1.28 standard
+  uncertainties of the estimate (the cut: neither outcome is 9 times likelier than
+  the other);
+* ``outside method range`` for an estimate outside its method's fitted domain:
+  such a number must not decide as if it were inside. It is never ``meets``, and
+  its ``probability_meets`` is left empty (NaN): the estimate gives no probability.
 
 Properties the composition fixes exactly (linolenic acid methyl ester and the
 esters with four or more double bonds, which EN 14214 limits on the GC result)
@@ -40,11 +53,14 @@ from estimator.errors import UnknownNameError
 
 __all__ = [
     "EXACT_PROPERTIES",
+    "FAILS_AT",
     "MEASURED_PROPERTIES",
+    "MEETS_AT",
     "PROPERTY_LABELS",
     "VERDICTS",
     "check",
     "climate_classes",
+    "probability_meets",
     "composition_estimates",
     "known_specs",
     "limits",
@@ -55,7 +71,11 @@ __all__ = [
 ]
 
 #: The verdicts, in order of how much they worry a buyer (best first).
-VERDICTS = ("meets", "too close to call", "fails", "not estimated")
+VERDICTS = ("meets", "too close to call", "fails", "not estimated", "outside method range")
+#: ``probability_meets`` at or above which the verdict is ``meets``.
+MEETS_AT = 0.9
+#: ``probability_meets`` at or below which the verdict is ``fails``.
+FAILS_AT = 0.1
 
 #: Properties fixed exactly by the composition (limits on the GC result itself).
 EXACT_PROPERTIES = ("linolenic_wt_pct", "pufa4_wt_pct")
@@ -85,6 +105,7 @@ PROPERTY_LABELS = {
 CHECK_COLUMNS = [
     "sample", "spec", "property", "estimate", "error", "limit", "verdict",
     "bound", "unit", "method", "in_domain", "climate_class", "edition", "mark",
+    "probability_meets",
 ]
 
 
@@ -254,6 +275,8 @@ def _as_long(estimates: pd.DataFrame) -> pd.DataFrame:
             if c in set(spec_table()["property"]) and pd.api.types.is_numeric_dtype(estimates[c])
         ]
         parts = []
+        flags = (estimates["flags"].fillna("").astype(str) if "flags" in estimates.columns
+                 else pd.Series("", index=estimates.index))
         for prop in props:
             err_col = f"{prop}_error"
             parts.append(pd.DataFrame({
@@ -263,7 +286,8 @@ def _as_long(estimates: pd.DataFrame) -> pd.DataFrame:
                 "value": estimates[prop].to_numpy(dtype=float),
                 "error": (estimates[err_col].to_numpy(dtype=float)
                           if err_col in estimates.columns else np.nan),
-                "in_domain": True,
+                # the wide view names out-of-domain estimates in its flags column
+                "in_domain": ~flags.str.contains(f"{prop}: outside ", regex=False).to_numpy(),
             }))
         long = pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(
             columns=["sample", "property", "method", "value", "error", "in_domain"])
@@ -299,8 +323,9 @@ def check(
     DataFrame
         One row per sample, limit and method: sample, spec, property, estimate,
         error, limit, verdict, then bound (min/max), unit, method, in_domain,
-        climate_class, edition, mark. ``error`` is 0 for limits the composition fixes
-        exactly; an unknown error (NaN) gives no band.
+        climate_class, edition, mark, probability_meets. ``error`` (one standard
+        uncertainty) is 0 for limits the composition fixes exactly; an unknown error
+        (NaN) gives no band.
 
     Examples
     --------
@@ -310,6 +335,8 @@ def check(
     >>> t = check(est, "en14214")
     >>> t.loc[t["property"] == "cetane_number", "verdict"].tolist()
     ['meets', 'too close to call', 'fails']
+    >>> t.loc[t["property"] == "cetane_number", "probability_meets"].round(3).tolist()
+    [0.977, 0.599, 0.0]
     >>> sorted(set(t.loc[t["property"] == "density_15C_kg_m3", "verdict"]))
     ['not estimated']
     """
@@ -341,7 +368,12 @@ def check(
     exact = merged["exact_from_composition"].to_numpy(dtype=bool)
     error = np.where(exact, 0.0, merged["error"].to_numpy(dtype=float))
     merged["error"] = error
-    merged["verdict"] = _verdicts(value, error, limit, merged["bound"].to_numpy() == "min")
+    is_min = merged["bound"].to_numpy() == "min"
+    inside = merged["in_domain"].astype(bool).to_numpy() | exact
+    # outside the method's range the estimate gives no probability (NaN, printed blank)
+    merged["probability_meets"] = np.where(
+        inside, probability_meets(value, error, limit, is_min), np.nan)
+    merged["verdict"] = _verdicts(value, error, limit, is_min, inside)
     merged = merged.rename(columns={"value": "estimate"})
     order_s = {s: i for i, s in enumerate(samples)}
     order_l = {k: i for i, k in enumerate(zip(lim["spec"], lim["property"], lim["bound"]))}
@@ -351,21 +383,46 @@ def check(
     return merged[CHECK_COLUMNS].reset_index(drop=True)
 
 
+def probability_meets(value: np.ndarray, error: np.ndarray, limit: np.ndarray,
+                      is_min: np.ndarray) -> np.ndarray:
+    """Probability that the property meets the limit, normal error of SD ``error``.
+
+    A zero or NaN error counts as no band (probability 1 or 0); a NaN value gives NaN.
+
+    Examples
+    --------
+    >>> probability_meets(np.array([52.0]), np.array([1.0]), np.array([51.0]),
+    ...                   np.array([True])).round(4)
+    array([0.8413])
+    """
+    from scipy.special import ndtr
+
+    value = np.asarray(value, dtype=float)
+    limit = np.asarray(limit, dtype=float)
+    band = np.nan_to_num(np.asarray(error, dtype=float), nan=0.0)
+    margin = np.where(is_min, value - limit, limit - value)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        p = np.where(band > 0, ndtr(margin / np.where(band > 0, band, 1.0)),
+                     (margin >= 0).astype(float))
+    return np.where(np.isnan(value), np.nan, p)
+
+
 def _verdicts(value: np.ndarray, error: np.ndarray, limit: np.ndarray,
-              is_min: np.ndarray) -> np.ndarray:
-    """Vectorised verdicts; a NaN error counts as no band."""
-    band = np.nan_to_num(error, nan=0.0)
-    close = np.abs(value - limit) < band
-    ok = np.where(is_min, value >= limit, value <= limit)
-    out = np.where(close, VERDICTS[1], np.where(ok, VERDICTS[0], VERDICTS[2]))
-    return np.where(np.isnan(value), VERDICTS[3], out).astype(object)
+              is_min: np.ndarray, in_domain: np.ndarray | None = None) -> np.ndarray:
+    """Vectorised verdicts from ``probability_meets``; a NaN error counts as no band."""
+    p = probability_meets(value, error, limit, is_min)
+    out = np.where(p >= MEETS_AT, VERDICTS[0], np.where(p <= FAILS_AT, VERDICTS[2], VERDICTS[1]))
+    if in_domain is not None:
+        out = np.where(np.asarray(in_domain, dtype=bool), out, VERDICTS[4])
+    return np.where(np.isnan(np.asarray(value, dtype=float)), VERDICTS[3], out).astype(object)
 
 
 def summarise(verdicts: pd.DataFrame) -> pd.DataFrame:
     """One summary cell per sample and specification, e.g. ``fails (iodine value, CFPP)``.
 
     The worst outcome leads: ``fails (...)``, then ``too close to call (...)``, then
-    ``not estimated (...)``; a sample is ``meets`` only when every limit is met. With
+    ``outside method range (...)``, then ``not estimated (...)``; a sample is ``meets``
+    only when every limit is met. With
     several methods per property the worst verdict of that property counts.
 
     Returns
@@ -392,7 +449,7 @@ def summarise(verdicts: pd.DataFrame) -> pd.DataFrame:
             worst_by_prop[prop] = verdict if old is None else max(
                 old, verdict, key=_severity)
         parts = []
-        for verdict in ("fails", "too close to call", "not estimated"):
+        for verdict in ("fails", "too close to call", "outside method range", "not estimated"):
             props = [PROPERTY_LABELS.get(p, p) for p, v in worst_by_prop.items() if v == verdict]
             if props:
                 parts.append(f"{verdict} ({', '.join(dict.fromkeys(props))})")
@@ -401,4 +458,5 @@ def summarise(verdicts: pd.DataFrame) -> pd.DataFrame:
 
 
 def _severity(verdict: str) -> int:
-    return {"meets": 0, "not estimated": 1, "too close to call": 2, "fails": 3}[verdict]
+    return {"meets": 0, "not estimated": 1, "outside method range": 2, "too close to call": 2,
+            "fails": 3}[verdict]

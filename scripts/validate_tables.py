@@ -14,7 +14,11 @@ numbers, and the cross-table rules hold:
   its own ranges;
 * specs.csv: one parsable bound per row, known spec / property / unit / class;
 * diesels.csv: known properties with the registry's units, values inside
-  plausible physical bands, HHV above LHV, CFPP not above the cloud point.
+  plausible physical bands, HHV above LHV, CFPP not above the cloud point;
+* validation_pure_esters.csv, validation_feedstocks.csv: unique sample names, a
+  registered property, a composition that names known species or a built-in oil,
+  a numeric value that is the midpoint of its range when one is given, a VERIFIED
+  or MEMORY mark, and ``used_by`` naming registered methods of that property.
 
 Usage: ``python scripts/validate_tables.py``. Prints one line per table and one
 line per problem; exits 1 if there is any problem.
@@ -43,7 +47,11 @@ from estimator.blending import DIESEL_PROPERTIES  # noqa: E402
 from estimator.properties.descriptors import DESCRIPTOR_UNITS  # noqa: E402
 from estimator.properties.methods import PROPERTIES  # noqa: E402
 
-TABLE_NAMES = ("species", "feedstocks", "feedstock_ranges", "specs", "diesels")
+VALIDATION_NAMES = ("validation_pure_esters", "validation_feedstocks")
+TABLE_NAMES = ("species", "feedstocks", "feedstock_ranges", "specs", "diesels",
+               *VALIDATION_NAMES)
+VALIDATION_COLUMNS = ["sample", "composition", "property", "value", "range_low", "range_high",
+                      "used_by", "mark", "source"]
 
 # Required columns (the loaders in estimator/ read these by name).
 REQUIRED = {
@@ -58,10 +66,12 @@ REQUIRED = {
     "specs": ["spec", "property", "climate_class", "min", "max", "unit",
               "exact_from_composition", "edition", "test_method", "mark", "source"],
     "diesels": ["diesel", "property", "value", "unit", "source"],
+    **{name: VALIDATION_COLUMNS for name in VALIDATION_NAMES},
 }
 # Column that names a row in messages.
 ROW_KEY = {"species": "key", "feedstocks": "oil", "feedstock_ranges": "oil",
-           "specs": "spec", "diesels": "diesel"}
+           "specs": "spec", "diesels": "diesel",
+           **{name: "sample" for name in VALIDATION_NAMES}}
 
 SPECIES_INT = ["carbons", "double_bonds", "trans", "hydroxyl", "allylic_positions",
                "bis_allylic_positions"]
@@ -456,6 +466,64 @@ def check_diesels(table: Table) -> Result:
     return Result(table, problems, [])
 
 
+# ------------------------------------------------------------------ validation_*.csv
+def composition_problem(text: str, species: set[str], oils: set[str]) -> str | None:
+    """Why a ``composition`` cell cannot be read, or None (ester:/oil:/mix: forms)."""
+    kind, _, rest = text.partition(":")
+    if kind == "ester":
+        return None if rest in species else f"unknown species {rest!r}"
+    if kind == "oil":
+        return None if rest in oils else f"unknown built-in oil {rest!r}"
+    if kind == "mix":
+        for part in rest.split(";"):
+            key, _, value = part.partition("=")
+            if key.strip() not in species:
+                return f"unknown species {key.strip()!r}"
+            if (as_float(value) or 0.0) <= 0:
+                return f"{part!r} is not a positive mass %"
+        return None
+    return f"composition {text!r} is not ester:, oil: or mix:"
+
+
+def check_validation(table: Table, species: Table, feedstocks: Table) -> Result:
+    problems = check_required(table)
+    if problems:
+        return Result(table, problems, [])
+    from estimator.properties.methods import methods_for
+
+    keys = {r["key"] for r in species.rows}
+    oils = {r["oil"] for r in feedstocks.rows}
+    problems += check_sources(table)
+    problems += check_numeric(table, ["value"], blank_ok=False)
+    problems += check_numeric(table, ["range_low", "range_high"])
+    problems += check_unique(table, ["sample"])
+    for i, row in enumerate(table.rows):
+        where = f"{table.filename} {table.label(i)}"
+        prop = row["property"]
+        if prop not in PROPERTIES:
+            problems.append(f"{where}: unknown property {prop!r}")
+            continue
+        why = composition_problem(row["composition"], keys, oils)
+        if why:
+            problems.append(f"{where}: {why}")
+        if row["mark"] not in MARKS:
+            problems.append(f"{where}: mark {row['mark']!r} is not one of {', '.join(MARKS)}")
+        for name in filter(None, row["used_by"].split("|")):
+            if name not in methods_for(prop):
+                problems.append(f"{where}: used_by {name!r} is not a {prop} method")
+        lo, hi, value = as_float(row["range_low"]), as_float(row["range_high"]), as_float(
+            row["value"])
+        if (lo is None) != (hi is None):
+            problems.append(f"{where}: a range needs both range_low and range_high")
+        elif lo is not None and value is not None:
+            if not lo <= hi:
+                problems.append(f"{where}: range_low {lo:g} > range_high {hi:g}")
+            elif abs(value - (lo + hi) / 2) > 1e-6 * max(1.0, abs(value)):
+                problems.append(f"{where}: value {value:g} is not the range midpoint "
+                                f"{(lo + hi) / 2:g}")
+    return Result(table, problems, [])
+
+
 # ------------------------------------------------------------------ driver
 def validate(directory: Path = TABLES) -> list[Result]:
     """Run every check; one result per table in ``TABLE_NAMES`` order."""
@@ -466,6 +534,7 @@ def validate(directory: Path = TABLES) -> list[Result]:
         check_ranges(t["feedstock_ranges"], t["species"], t["feedstocks"], directory),
         check_specs(t["specs"]),
         check_diesels(t["diesels"]),
+        *(check_validation(t[name], t["species"], t["feedstocks"]) for name in VALIDATION_NAMES),
     ]
 
 

@@ -138,6 +138,15 @@ def test_methods_lists_citations_and_marks_the_default():
     assert "Bioresour" in result.output or "Bioresource" in result.output
 
 
+def test_methods_says_what_the_plus_minus_is_and_names_each_bands_evidence():
+    result = run("methods", "--property", "kin_viscosity_40C_mm2_s")
+    assert result.exit_code == 0, result.output
+    assert "Every ± printed is one standard uncertainty (one standard deviation)" in result.output
+    # Allen et al. 1999, Fuel 78:1319: average 3 % on natural biodiesels (VERIFIED [S33])
+    assert "band (1 SD): published average 3 % on natural biodiesels (Allen et al. 1999)" \
+        in result.output
+
+
 def test_methods_unknown_property_lists_known_ones():
     result = run("methods", "--property", "smoke_point")
     assert result.exit_code == 2

@@ -94,7 +94,11 @@ def test_check_writes_the_table_by_extension_with_the_caution(tmp_path, suffix):
     assert list(table.columns[:7]) == ["sample", "spec", "property", "estimate", "error",
                                        "limit", "verdict"]
     assert table["sample"].nunique() == 7
-    assert set(table["verdict"]) <= {"meets", "fails", "too close to call"}
+    assert set(table["verdict"]) <= {"meets", "fails", "too close to call",
+                                     "outside method range"}
+    outside = table["verdict"] == "outside method range"
+    assert table.loc[~outside, "probability_meets"].between(0, 1).all()
+    assert table.loc[outside, "probability_meets"].isna().all()
     assert CAUTION_SHORT in result.output
 
 

@@ -230,10 +230,28 @@ def test_validator_exits_1_with_a_one_line_reason(tmp_path, capsys):
                                            encoding="utf-8")
     assert vt.main(directory) == 1
     out = capsys.readouterr().out.splitlines()
-    assert out[4:] == [
+    assert out[4:6] == [
         "diesels.csv: 16 rows, 1 problem",
         "  diesels.csv row 2 (en590-summer): density_15C_kg_m3 1836.6 outside the plausible "
         "780-880",
+    ]
+
+
+def test_validation_row_with_unknown_species_bad_range_or_method_is_reported():
+    t = table("validation_feedstocks")
+    t.rows[0]["composition"] = "mix:C18:1=50;C99:0=50"
+    t.rows[1]["value"] = "99"  # not the midpoint of 48.0-61.2
+    t.rows[2]["used_by"] = "nosuchmethod"
+    t.rows[3]["mark"] = "GUESS"
+    problems = vt.check_validation(t, TABLES["species"], TABLES["feedstocks"]).problems
+    assert problems == [
+        "validation_feedstocks.csv row 2 (soybean FAME cetane range): unknown species 'C99:0'",
+        "validation_feedstocks.csv row 3 (rapeseed FAME cetane range): value 99 is not the "
+        "range midpoint 54.6",
+        "validation_feedstocks.csv row 4 (coconut FAME cetane trade range): used_by "
+        "'nosuchmethod' is not a cetane_number method",
+        "validation_feedstocks.csv row 5 (soybean-like ester mixture density thermo): mark "
+        "'GUESS' is not one of VERIFIED, MEMORY",
     ]
 
 
@@ -266,6 +284,11 @@ FINGERPRINTS = {
                    "exact_from_composition", "edition", "test_method", "mark", "source"],
               {"min": 6232.9, "max": 5607.6}),
     "diesels": (16, ["diesel", "property", "value", "unit", "source"], {"value": 2337.48}),
+    "validation_pure_esters": (67, vt.VALIDATION_COLUMNS,
+                               {"value": 6499.1, "range_low": 0.0, "range_high": 0.2}),
+    "validation_feedstocks": (19, vt.VALIDATION_COLUMNS,
+                              {"value": 2135.224, "range_low": 1123.3, "range_high": 1369.8,
+                               "used_by": 0.0}),
 }
 
 

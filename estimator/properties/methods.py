@@ -303,7 +303,15 @@ def _iv_aocs(w, d, t=None):
     return np.asarray(w, dtype=float) @ _aocs_factor_vector()
 
 
+#: Key under which a caller may pass the already computed ideal-solubility cloud point in
+#: ``desc`` (predict does, so the CFPP-from-cloud-point method does not compute it again).
+CLOUD_POINT_KEY = "_imahara2006_cloud_point_C"
+
+
 def _cp_imahara2006(w, d, t=None):
+    known = d.get(CLOUD_POINT_KEY) if isinstance(d, Mapping) else None
+    if known is not None and len(known) == len(w):
+        return np.asarray(known, dtype=float)
     return cold_flow.imahara2006(*cold_flow.saturated_mole_fractions(w))
 
 

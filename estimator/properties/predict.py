@@ -7,12 +7,14 @@ column per property (the default method, or the only method present), its
 ``<property>_error`` column and a ``flags`` column naming the estimates that lie
 outside their method's fitted domain.
 
-Errors: a method's published error where it is an error (AAD %, maximum %,
-RMSE); otherwise the standard deviation of the property's available methods
-for that sample; otherwise a stated fallback (see
-:attr:`estimator.properties.methods.Method.error_note`). Outside the fitted
-domain the error is the larger of the published error and the methods' spread.
-The ``note`` says which applies.
+Errors: every ``error`` is one standard uncertainty (one standard deviation): the
+method's band from evidence (:func:`estimator.properties.uncertainty.method_band`:
+a verified published statistic, else the RMS of its residuals on the validation
+tables, else a stated fallback), widened outside the fitted domain, combined in
+quadrature with the GC repeatability of the composition. Other methods of a
+property are evaluated only where the band needs them (no evidence, or outside
+the fitted domain); the ideal-solubility cloud point is computed once. The
+``note`` says which rule applies.
 """
 
 from __future__ import annotations
@@ -24,8 +26,23 @@ import numpy as np
 import pandas as pd
 
 from estimator.errors import ProfileError, UnknownNameError, UsageError
-from estimator.properties.descriptors import descriptors
-from estimator.properties.methods import DEFAULTS, PROPERTIES, Method, get_method, methods_for
+from estimator.properties.descriptors import DESCRIPTOR_UNITS, descriptors
+from estimator.properties.methods import (
+    CLOUD_POINT_KEY,
+    DEFAULTS,
+    PROPERTIES,
+    Method,
+    get_method,
+    methods_for,
+)
+from estimator.properties.uncertainty import (
+    DEFAULT_GC,
+    OUT_OF_DOMAIN_FACTOR,
+    GCRepeatability,
+    composition_sd,
+    method_band,
+    spread_of_methods,
+)
 from estimator.tables import species_keys
 
 __all__ = [
@@ -119,20 +136,32 @@ def _spread(stack: np.ndarray) -> np.ndarray:
     return np.where(count >= 2, np.sqrt(var), np.nan)
 
 
-def _error(m: Method, values, inside, spread, n_methods, spreads):
-    published = m.absolute_error(values)
-    if published is not None:
-        text = f"error: published {m.error_kind} {m.error:g}"
-        if (~inside).any():
-            text += " (beyond the fitted domain: the larger of it and the methods' spread)"
-            published = np.where(inside, published, np.fmax(published, spread))
-        return published, text
-    if n_methods >= 2:
-        kind = "" if m.error_kind == "none" else f" (published {m.error_kind} {m.error:g})"
-        return spread, f"error: std of the {n_methods} methods, no usable published error{kind}"
-    if m.error_fallback is not None:
-        return np.asarray(m.error_fallback(values, spreads), dtype=float), f"error: {m.error_note}"
-    return np.full(values.shape, np.nan), "error: none published and no second method"
+def _method_error(m: Method, base: str, values, inside, w, desc, t, spread_of):
+    """The method's band per sample and its note text; alternatives only where needed.
+
+    ``spread_of(rows)`` evaluates the property's other methods on the given rows only.
+    """
+    band = method_band(base, m.name)
+    err = band.values(values)
+    text = f"error: 1 SD; {band.text}"
+    if band.needs_spread or band.with_fallback:
+        fallback = np.full(len(values), np.nan)
+        if len(methods_for(base)) >= 2:
+            fallback = spread_of(np.arange(len(values)))
+        elif m.error_fallback is not None:
+            fallback = np.asarray(m.error_fallback(values, {base: fallback}), dtype=float)
+        err = np.fmax(err, fallback)
+    out = ~inside
+    if out.any():
+        rows = np.flatnonzero(out)
+        widened = OUT_OF_DOMAIN_FACTOR * err[rows]
+        if len(methods_for(base)) >= 2:
+            widened = np.fmax(widened, spread_of(rows))
+        err = err.copy()
+        err[rows] = widened
+        text += (f" (beyond the fitted domain: x{OUT_OF_DOMAIN_FACTOR:g}, at least the "
+                 "methods' spread)")
+    return err, text
 
 
 class _Notes:
@@ -171,6 +200,7 @@ def estimate(
     *,
     methods: str | Mapping[str, str] = "default",
     temperatures_C: Sequence[float] = (),
+    gc: GCRepeatability | None = DEFAULT_GC,
 ) -> pd.DataFrame:
     """Estimate every property of every sample; one row per sample, property and method.
 
@@ -190,6 +220,9 @@ def estimate(
         Extra temperatures for density and viscosity curves, reported as
         properties ``density_<T>C_kg_m3`` and ``kin_viscosity_<T>C_mm2_s``
         (``m10`` for -10, ``12p5`` for 12.5). [degC]
+    gc : GCRepeatability or None, optional
+        Repeatability of the GC area % propagated into ``error``; None leaves the
+        composition's own uncertainty out.
 
     Returns
     -------
@@ -205,7 +238,7 @@ def estimate(
     array([['ramirezverduzco2022', 893.3]], dtype=object)
     """
     w, ids = _validate(wt_pct, samples)
-    ids, n, blocks = _blocks(w, ids, methods, temperatures_C)
+    ids, n, blocks = _blocks(w, ids, methods, temperatures_C, gc=gc)
     notes = _Notes()
     for b in blocks:
         notes.add(b.note, b.violations, n)
@@ -227,6 +260,30 @@ def estimate(
     }, columns=list(LONG_COLUMNS))
 
 
+class _LazyDescriptors(Mapping):
+    """The descriptors of a composition, computed on first access (most methods need none)."""
+
+    def __init__(self, w: np.ndarray) -> None:
+        self._w = w
+        self._d: dict[str, np.ndarray] | None = None
+
+    def _all(self) -> dict[str, np.ndarray]:
+        if self._d is None:
+            self._d = descriptors(self._w)
+        return self._d
+
+    def __getitem__(self, key: str) -> np.ndarray:
+        if key not in DESCRIPTOR_UNITS:
+            raise KeyError(key)  # e.g. a cache key some wrapper looks for: not computed here
+        return self._all()[key]
+
+    def __iter__(self):
+        return iter(self._all())
+
+    def __len__(self) -> int:
+        return len(self._all())
+
+
 @dataclass(frozen=True)
 class _Block:
     """One property estimated by one method for every sample."""
@@ -241,7 +298,7 @@ class _Block:
     violations: list
 
 
-def _blocks(w, ids, methods, temperatures_C, desc=None):
+def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
     """Evaluate every task (property or curve point) by the chosen methods."""
     n = w.shape[0]
     desc = descriptors(w) if desc is None else desc
@@ -256,32 +313,53 @@ def _blocks(w, ids, methods, temperatures_C, desc=None):
             if name not in PROPERTIES and name not in {x[0] for x in tasks}:
                 tasks.append((name, base, t))
 
-    evaluated: dict[str, dict[str, np.ndarray]] = {}
-    spreads: dict[str, np.ndarray] = {}
+    # the ideal-solubility cloud point once: the cloud point itself, the CFPP-from-cloud-point
+    # method and the curve points' check all read it through ``desc``
+    cloud = methods_for("cloud_point_C")[DEFAULTS["cloud_point_C"]].evaluate(w, desc)
+    desc = {**desc, CLOUD_POINT_KEY: cloud}
+    # only the chosen methods are evaluated; the others only where a band needs them
+    evaluated: dict[tuple[str, str], np.ndarray] = {}
     for name, base, t in tasks:
-        vals = {m.name: m.evaluate(w, desc, t) for m in methods_for(base).values()}
-        evaluated[name] = vals
-        spreads[name] = _spread(np.column_stack(list(vals.values())))
+        for mname in chosen[base]:
+            evaluated[name, mname] = methods_for(base)[mname].evaluate(w, desc, t)
+
+    comp_sd: dict[tuple[str, str], np.ndarray] = {}
+    if gc is not None and gc.active and n:
+        keyed = {(name, m): (base, t) for (name, base, t) in tasks for m in chosen[base]}
+
+        def evaluate_all(ww, names=None):
+            dd = _LazyDescriptors(ww)
+            with np.errstate(all="ignore"):
+                return {key: methods_for(keyed[key][0])[key[1]].evaluate(ww, dd, keyed[key][1])
+                        for key in (keyed if names is None else names)}
+        comp_sd = composition_sd(evaluate_all, w, gc, base={k: evaluated[k] for k in keyed})
 
     blocks = []
     for name, base, t in tasks:
         all_methods = methods_for(base)
         for mname in chosen[base]:
             m = all_methods[mname]
-            values = evaluated[name][mname]
+            values = evaluated[name, mname]
             violations = m.domain.violations(w, desc)
             if t is not None:
                 # a curve point below the sample's estimated cloud point describes a liquid
                 # that is already clouding: the per-ester liquid data do not hold there
-                cp = evaluated["cloud_point_C"][DEFAULTS["cloud_point_C"]]
-                below = np.asarray(t < cp)
+                below = np.asarray(t < cloud)
                 if below.any():
                     violations = [*violations, (f"{t:g} degC is below the estimated cloud "
                                                 "point: wax is crystallising", below)]
             inside = np.ones(n, dtype=bool)
             for _, mask in violations:
                 inside &= ~mask
-            err, err_text = _error(m, values, inside, spreads[name], len(all_methods), spreads)
+
+            def spread_of(rows, base=base, t=t, mname=mname, values=values):
+                sub = {k: np.asarray(v)[rows] for k, v in desc.items()}
+                return spread_of_methods(base, w[rows], sub, t, known={mname: values[rows]})
+
+            err, err_text = _method_error(m, base, values, inside, w, desc, t, spread_of)
+            if (name, mname) in comp_sd:
+                err = np.sqrt(err**2 + comp_sd[name, mname] ** 2)
+                err_text += "; with the GC repeatability of the composition"
             blocks.append(_Block(name, mname, m.unit, values, err, inside,
                                  f"{m.note}; {err_text}", violations))
     return ids, n, blocks
@@ -294,6 +372,7 @@ def estimate_wide(
     methods: str | Mapping[str, str] = "default",
     temperatures_C: Sequence[float] = (),
     desc: Mapping[str, np.ndarray] | None = None,
+    gc: GCRepeatability | None = DEFAULT_GC,
 ) -> pd.DataFrame:
     """The wide table of :func:`wide` straight from the estimates, without the long table.
 
@@ -310,9 +389,10 @@ def estimate_wide(
     True
     """
     if methods == "all":
-        return wide(estimate(wt_pct, samples, methods=methods, temperatures_C=temperatures_C))
+        return wide(estimate(wt_pct, samples, methods=methods, temperatures_C=temperatures_C,
+                             gc=gc))
     w, ids = _validate(wt_pct, samples)
-    ids, n, blocks = _blocks(w, ids, methods, temperatures_C, desc)
+    ids, n, blocks = _blocks(w, ids, methods, temperatures_C, desc, gc)
     out: dict[str, np.ndarray] = {"sample": np.asarray(ids, dtype=object)}
     code_columns, code_texts = [], []
     for b in blocks:

@@ -312,8 +312,9 @@ def ranking_section(comparison) -> Section:
     body = paragraph(
         "Lots whose fuel meets every specification checked come first, then those too "
         "close to call, then those that fail; within each group the cheapest fuel first. "
-        "A verdict is 'too close to call' when the limit lies inside the estimate ± its "
-        "stated error."
+        "Every ± is one standard uncertainty. A verdict is 'too close to call' when the "
+        "probability that the fuel meets the limit lies between 0.1 and 0.9, and 'outside "
+        "method range' when the estimate lies outside the range its method was fitted on."
     )
     body += table_html(out, verdict_columns=verdict_cols, formats={
         "fuel yield [t/t oil]": ".4f", "price [per t oil]": ",.0f",

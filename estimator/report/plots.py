@@ -554,7 +554,10 @@ def _limit_texts(limits: pd.DataFrame, prop: str) -> list[tuple[str, float]]:
 
 
 def _worst(verdicts: pd.DataFrame, lots: Sequence[str], props: Sequence[str]) -> list[str]:
-    rank = {"meets": 0, "not estimated": 1, "too close to call": 2, "fails": 3}
+    # "outside method range" shows as "too close to call" (listed first, so the inverse
+    # names rank 2 "too close to call")
+    rank = {"meets": 0, "not estimated": 1, "outside method range": 2, "too close to call": 2,
+            "fails": 3}
     names = {v: k for k, v in rank.items()}
     rows = verdicts[verdicts["property"].isin(list(props))]
     worst = rows.assign(_r=rows["verdict"].map(rank)).groupby("sample")["_r"].max()

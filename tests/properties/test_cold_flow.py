@@ -85,11 +85,19 @@ def test_thermodynamic_data_cover_saturated_c12_to_c24_and_elaidate():
     assert (np.diff(dh[order]) > 0).all() and (np.diff(tm[order]) > 0).all()
 
 
+def test_gas_constant_is_the_codata_value():
+    # CODATA 2018 (exact in the 2019 SI: N_A k), R = 8.314462618 J/(mol K) (from memory)
+    assert cold_flow.GAS_CONSTANT_J_MOL_K == pytest.approx(6.02214076e23 * 1.380649e-23,
+                                                           rel=1e-9)
+
+
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_ramos2009_worked_number():
     # Ramos 2009 (MEMORY): 3.1417 LCSF - 16.477; palm LCSF = 0.1*44.0 + 0.5*4.5 (our arithmetic)
     assert cold_flow.ramos2009(6.65) == pytest.approx(4.415305, abs=1e-6)
 
 
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_cfpp_from_cloud_point_equations():
     # [S21] abstract (VERIFIED): CFPP = 1.0191 CP - 2.9 and CFPP = CP - 4.5
     assert cold_flow.cfpp_from_cloud_point(0.0) == pytest.approx(-2.9)

@@ -95,6 +95,7 @@ def test_saponification_value_of_methyl_oleate_is_one_koh_per_ester():
     assert sn == pytest.approx(56105.0 / 296.495, rel=1e-4)
 
 
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_lcsf_follows_ramos_weights():
     # Ramos et al. 2009, Bioresour. Technol. 100:261 (weights from memory, correlations.md 6.1)
     d = descriptors(comp(C16_0=20, C18_0=10, C20_0=2, C22_0=1, C24_0=1, C18_1=66))
@@ -115,6 +116,7 @@ def test_bis_allylic_and_allylic_position_equivalents():
     assert d["ape_wt_pct"][0] == pytest.approx(2 * 100)
 
 
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_oxidizability_uses_mccormick_weights():
     # McCormick et al. 2007, Fuel Process. Technol. 88:651 (from memory, correlations.md 5)
     d = descriptors(comp(C18_1=60, C18_2=30, C18_3=10))

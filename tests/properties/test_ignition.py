@@ -92,6 +92,7 @@ def test_every_species_has_a_cetane_value_or_a_stated_fallback():
             assert "ramirezverduzco2012" in sources[key]
 
 
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_bamgboye2008_coefficient_vector_is_the_correlation():
     rng = np.random.default_rng(1)
     w = rng.uniform(0, 1, (20, len(KEYS)))
@@ -113,6 +114,7 @@ def test_bamgboye2008_vector_serves_a_linear_programme():
     np.testing.assert_allclose(res.x, [20, 80, 0], atol=1e-6)
 
 
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_krisnangkura1986_worked_number_and_direction():
     # Krisnangkura 1986 equation (MEMORY): 46.3 + 5458/191 - 0.225*130, our arithmetic
     assert ignition.krisnangkura1986(191.0, 130.0) == pytest.approx(45.6259, abs=1e-4)

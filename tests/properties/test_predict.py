@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import time
-
 import numpy as np
 import pandas as pd
 import pytest
@@ -94,15 +92,18 @@ def test_every_default_estimate_carries_an_error(table):
     assert notes.str.contains("error: ").all()  # each note says where the error comes from
 
 
-def test_error_is_published_or_the_spread_of_methods():
-    long = estimate(W[:1], ["soybean"], methods="all")
+def test_error_is_the_evidence_band_combined_with_the_gc_repeatability():
+    long = estimate(W[:1], ["soybean"], methods="all", gc=None)
     viscosity = long[(long.property == "kin_viscosity_40C_mm2_s") & (long.method == "allen1999")]
-    # Allen et al. 1999, Fuel 78:1319: 3 % average (VERIFIED [S33]) -> 3 % of the value
-    assert viscosity["error"].iloc[0] == pytest.approx(0.03 * viscosity["value"].iloc[0])
-    cfpp = long[long.property == "cfpp_C"]
-    default = cfpp[cfpp.method == "ramos2009"].iloc[0]
-    assert default["error"] == pytest.approx(np.std(cfpp["value"].to_numpy()))
-    assert "std of the 2 methods" in default["note"]
+    # Allen et al. 1999, Fuel 78:1319: 3 % average deviation (VERIFIED [S33]) -> one
+    # standard deviation sqrt(pi/2) x 3 % of the value (normal errors; any statistics text)
+    assert viscosity["error"].iloc[0] == pytest.approx(
+        0.03 * np.sqrt(np.pi / 2) * viscosity["value"].iloc[0])
+    assert "1 SD" in str(viscosity["note"].iloc[0])
+    with_gc = estimate(W[:1], ["soybean"], methods="all")
+    v_gc = with_gc[(with_gc.property == "kin_viscosity_40C_mm2_s")
+                   & (with_gc.method == "allen1999")]["error"].iloc[0]
+    assert v_gc > viscosity["error"].iloc[0]  # the composition's own uncertainty adds
 
 
 def test_flags_for_a_lauric_oil_and_a_c22_6_rich_profile(table):
@@ -193,18 +194,16 @@ def test_rapeseed_inside_en14214(table):
 
 
 @pytest.mark.slow
-def test_100k_samples_estimate_quickly():
+def test_100k_samples_give_one_finite_row_each():
+    # speed is measured by scripts/bench_predict.py, never by a timed test (developers' rules)
     rng = np.random.default_rng(3)
     big = np.repeat(W[:6], 100_000 // 6 + 1, axis=0)[:100_000]
     big = big * rng.uniform(0.9, 1.1, big.shape)
     big = 100 * big / big.sum(axis=1, keepdims=True)
     ids = np.arange(100_000)
-    start = time.perf_counter()
-    long = estimate(big, ids)
-    table = wide(long)
-    elapsed = time.perf_counter() - start
+    table = wide(estimate(big, ids))
     assert len(table) == 100_000
-    assert elapsed < 10.0  # measured ~1.2 s on the dev machine; generous for CI
+    assert np.isfinite(table["cetane_number_error"]).all()
 
 
 def test_wide_of_all_methods_shows_the_defaults():
@@ -236,3 +235,40 @@ def test_fast_wide_table_equals_the_wide_view_of_the_long_table():
     slow = wide(estimate(p.wt_pct, p.samples, temperatures_C=[-5, 20]))
     fast = estimate_wide(p.wt_pct, p.samples, temperatures_C=[-5, 20])
     pd.testing.assert_frame_equal(fast, slow)
+
+
+def test_default_path_evaluates_alternatives_only_where_the_band_needs_them(monkeypatch):
+    # issue 11 point 7: no alternative method runs for an in-domain sample whose default
+    # band comes from evidence; the viscosity alternatives are such a case for soybean
+    from estimator.properties import methods as registry_module
+
+    calls = {"n": 0}
+    original = registry_module.transport.krisnangkura2006
+
+    def counting(*args, **kwargs):
+        calls["n"] += 1
+        return original(*args, **kwargs)
+
+    monkeypatch.setattr(registry_module.transport, "krisnangkura2006", counting)
+    w = matrix({"soybean": OILS["soybean"]})
+    estimate(w, ["soy"])
+    assert calls["n"] == 0
+    estimate(w, ["soy"], methods="all")
+    assert calls["n"] >= 1  # and it does run when asked for
+
+
+def test_ideal_solubility_cloud_point_is_computed_once(monkeypatch):
+    from estimator.properties import cold_flow
+
+    calls = {"n": 0}
+    original = cold_flow.imahara2006
+
+    def counting(*args, **kwargs):
+        calls["n"] += 1
+        return original(*args, **kwargs)
+
+    w = matrix({"soybean": OILS["soybean"], "rapeseed": OILS["rapeseed"]})
+    estimate(w, ["soy", "rape"], gc=None)  # the bands' validation residuals: once per process
+    monkeypatch.setattr(cold_flow, "imahara2006", counting)
+    estimate(w, ["soy", "rape"], temperatures_C=[-10, 0, 20], gc=None)
+    assert calls["n"] == 1  # the cloud point itself and the curve-point check share it

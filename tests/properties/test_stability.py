@@ -22,6 +22,7 @@ def comp(mapping: dict[str, float]) -> np.ndarray:
     return 100.0 * w / w.sum()
 
 
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_park2008_worked_number_and_pole():
     # Park 2008 (MEMORY): 117.9295 / X + 2.5905; rapeseed X = 19.0 + 8.5 (our arithmetic)
     assert stability.park2008(27.5) == pytest.approx(117.9295 / 27.5 + 2.5905, abs=1e-12)

@@ -176,3 +176,32 @@ def test_density_and_viscosity_fall_with_temperature(xs, t, dt):
             cold = m.evaluate(w, desc, t)[0]
             warm = m.evaluate(w, desc, t + dt)[0]
             assert warm < cold, (prop, m.name)
+
+
+@pytest.mark.parametrize(
+    ("key", "published"),
+    # correlations.md 8.1, Krisnangkura 2006 column (the reference note's own evaluation of
+    # the recalled equations, Fuel 85:107), printed to 0.01 mm2/s
+    [("C12:0", 2.45), ("C14:0", 3.29), ("C16:0", 4.43), ("C18:0", 5.96), ("C18:1", 4.58),
+     ("C18:2", 3.71), ("C18:3", 3.33)],
+)
+def test_krisnangkura2006_per_ester_viscosity_matches_the_reference_note(key, published):
+    i = KEYS.index(key)
+    carbons, bonds = int(key[1:3]), int(key.split(":")[1])
+    assert transport.krisnangkura2006_ester(carbons, bonds, 40.0) == pytest.approx(
+        published, abs=0.0051), i
+
+
+@pytest.mark.parametrize(
+    ("key", "temperature_C", "published"),
+    # correlations.md 7.1, GC columns: the Ramirez-Verduzco 2022 group contribution (VERIFIED
+    # coefficients [S20]) evaluated by the reference note, printed to 0.1 kg/m3
+    [("C12:0", 15.0, 870.3), ("C14:0", 40.0, 849.0), ("C18:1", 15.0, 875.9),
+     ("C18:1", 20.0, 872.4), ("C18:1", 40.0, 858.2), ("C18:2", 15.0, 888.1),
+     ("C18:2", 40.0, 870.2), ("C18:3", 15.0, 900.8), ("C18:3", 40.0, 882.7),
+     ("C22:1", 20.0, 868.2), ("C16:1", 40.0, 860.5)],
+)
+def test_group_contribution_density_matches_the_reference_note_table(key, temperature_C,
+                                                                      published):
+    rho = transport.ramirezverduzco2022(comp({key: 100.0}), temperature_C)[0]
+    assert rho == pytest.approx(published, abs=0.051)
