@@ -106,6 +106,7 @@ def parity_plot(
     published_rmse: float = float("nan"),
     groups: Sequence[str] | None = None,
     title: str | None = None,
+    baseline_rmse: float = float("nan"),
 ):
     """Measured against held-out predicted: the best published method beside the model.
 
@@ -125,11 +126,15 @@ def parity_plot(
         Its name and RMSE on the lab samples. [unit]
     groups : sequence of str, optional
         A group per sample (e.g. feedstock), shown by marker shape and colour.
+    baseline_rmse : float, optional
+        CV RMSE of the mean-only baseline; when given, its prediction (the mean of the
+        measurements) is drawn as a dotted horizontal line in every panel. [unit]
 
     Returns
     -------
     matplotlib.figure.Figure
-        One panel per model, equal axes, the 1:1 line and a band of +/- 1.96 x RMSE.
+        One panel per model, equal axes, the 1:1 line and a band of ± one standard
+        uncertainty (the panel model's RMSE).
     """
     import matplotlib
 
@@ -156,10 +161,14 @@ def parity_plot(
         for ax, (name, pred, rmse, colour) in zip(axes, panels):
             line = np.array(lim)
             if np.isfinite(rmse):
-                band = 1.959963984540054 * rmse
-                ax.fill_between(line, line - band, line + band, color=colour, alpha=0.12,
-                                linewidth=0, label="±1.96 × RMSE of the panel's model")
+                ax.fill_between(line, line - rmse, line + rmse, color=colour, alpha=0.12,
+                                linewidth=0, label="± 1 standard uncertainty (RMSE) of the "
+                                                   "panel's model")
             ax.plot(line, line, color=_INK, linewidth=1.0, linestyle="--", label="1:1")
+            if np.isfinite(baseline_rmse):
+                ax.axhline(float(np.nanmean(y)), color="#777777", linewidth=1.0,
+                           linestyle=":", label=f"mean-only baseline (RMSE "
+                                                f"{baseline_rmse:.3g})")
             off = np.isfinite(pred) & ((pred < lim[0]) | (pred > lim[1]))
             shown = np.clip(pred, lim[0], lim[1])
             for g, (marker, gcolour) in styles.items():
@@ -177,7 +186,7 @@ def parity_plot(
                         f"worst {worst:.3g})", transform=ax.transAxes, ha="right",
                         va="bottom", fontsize=8, color=_INK)
             r2 = _r2(y, pred)
-            band_text = f", band ±{1.959963984540054 * rmse:.3g}" if np.isfinite(rmse) else ""
+            band_text = f", band ± {rmse:.3g} (1 sd)" if np.isfinite(rmse) else ""
             ax.set_title(f"{name}\nheld-out RMSE {rmse:.3g}, R² {r2:.3f}{band_text}",
                          loc="left")
             ax.set_xlim(lim)
@@ -276,22 +285,25 @@ def fit_figures(fit, groups: Sequence[str] | None = None) -> dict:
     ones averaged over the cross-validation repeats.
     """
     from estimator.properties.descriptors import descriptors
+    from estimator.refit.wording import candidate_words, method_words
 
     chosen = fit.chosen
     pub = fit.best_published
     parity = parity_plot(
-        fit.measured, chosen.heldout_mean, model_name=chosen.candidate.name,
+        fit.measured, chosen.heldout_mean,
+        model_name=candidate_words(chosen.candidate.name, fit.property),
         model_rmse=chosen.rmse, property_name=fit.property, unit=fit.unit,
         published=None if pub is None or pub is chosen else pub.heldout_mean,
-        published_name="" if pub is None else pub.candidate.method,
+        published_name="" if pub is None else method_words(fit.property, pub.candidate.method),
         published_rmse=float("nan") if pub is None else pub.rmse,
         groups=groups,
+        baseline_rmse=float("nan") if fit.baseline is None else fit.baseline.rmse,
     )
     desc = descriptors(fit.wt_pct)
     residuals = residual_plot(
         chosen.heldout_mean - fit.measured,
         {name: desc[name] for name in RESIDUAL_DESCRIPTORS},
-        model_name=chosen.candidate.name, property_name=fit.property, unit=fit.unit,
-        groups=groups,
+        model_name=candidate_words(chosen.candidate.name, fit.property),
+        property_name=fit.property, unit=fit.unit, groups=groups,
     )
     return {"parity": parity, "residuals": residuals}

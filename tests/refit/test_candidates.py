@@ -11,7 +11,6 @@ import numpy as np
 import pytest
 
 from estimator.refit.candidates import (
-    GP_INTERVAL_Z,
     KINDS,
     Candidate,
     candidates_for,
@@ -90,9 +89,9 @@ def test_ridge_alpha_is_chosen_by_inner_cross_validation():
     assert params["alpha"] == RidgeCV(alphas=RIDGE_ALPHAS).fit(z, y).alpha_
 
 
-def test_gaussian_process_mean_and_interval_reproduce_scikit_learn():
+def test_gaussian_process_mean_and_sd_reproduce_scikit_learn():
     # GaussianProcessRegressor.predict(return_std=True) on standardized data is the
-    # reference; the interval is 1.96 sd of a new measurement (noise included).
+    # reference; the sd is that of a new measurement (noise included).
     x, y = synthetic(n=25, d=3)
     params, _ = Candidate("gp", "gp", tuple("abc"), 6).fit(x, y, seed=0)
     model = sklearn_estimator("gp", seed=0)
@@ -104,11 +103,10 @@ def test_gaussian_process_mean_and_interval_reproduce_scikit_learn():
     np.testing.assert_allclose(mean, model.predict(x_new), rtol=1e-8)
     scaler, gpr = model.regressor_[0], model.regressor_[1]
     _, sd = gpr.predict(scaler.transform(x_new), return_std=True)
-    np.testing.assert_allclose(half, GP_INTERVAL_Z * sd * model.transformer_.scale_[0],
-                               rtol=1e-7)
+    np.testing.assert_allclose(half, sd * model.transformer_.scale_[0], rtol=1e-7)
 
 
-def test_gaussian_process_interval_widens_away_from_the_training_samples():
+def test_gaussian_process_sd_widens_away_from_the_training_samples():
     x, y = synthetic(n=25, d=3)
     params, _ = Candidate("gp", "gp", tuple("abc"), 6).fit(x, y, seed=0)
     near = x[:1]
