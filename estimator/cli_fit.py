@@ -112,6 +112,9 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
         if not no_report:
             from estimator.report.fit_sections import write_fit_report
 
+            if sys.stderr.isatty():
+                click.echo("drawing the fit report ...", err=True)
+
             groups = _groups(profile)
             folder = write_fit_report(fits, path, table=table, groups=groups,
                                       source=Path(lab_file).name)

@@ -77,10 +77,10 @@ RIDGE_ALPHAS = tuple(float(a) for a in np.logspace(-3, 3, 25))
 #: Latent components of the PLS candidates.
 PLS_COMPONENTS = 2
 #: Gaussian process: at most this many training samples tune the kernel [samples].
-GP_TUNE_MAX = 200
+GP_TUNE_MAX = 120
 #: Gaussian process: at most this many training samples condition the process (and are
 #: stored in a model file) [samples].
-GP_MAX_TRAIN = 800
+GP_MAX_TRAIN = 500
 #: Gaussian process: jitter added to the kernel diagonal, as scikit-learn's default.
 GP_JITTER = 1e-10
 _FEATURE_SET_ORDER = ("descriptors", "composition")

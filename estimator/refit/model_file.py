@@ -48,7 +48,7 @@ Format version 1 stored 95 % half-widths; such files are refused (refit).
 nested as the schema; any number finite and within ±1e12 (``MAX_ABS_NUMBER``), fitted
 parameters within ±1e6 (``MAX_ABS_PARAMETER``); at most 64 features
 (``MAX_FEATURES``); a Gaussian process holds at most 2,000 training rows
-(``MAX_GP_TRAINING_ROWS``; ``fit`` writes at most 800); a domain at most 5,000 points
+(``MAX_GP_TRAINING_ROWS``; ``fit`` writes at most 500); a domain at most 5,000 points
 (``MAX_DOMAIN_ROWS``); other lists at most 200 entries, text at most 20,000
 characters, sample counts at most 10,000,000.
 

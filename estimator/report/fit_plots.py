@@ -83,9 +83,22 @@ def _new_figure(size: tuple[float, float]):
     return fig
 
 
-def _group_styles(groups: Sequence[str] | None, n: int) -> tuple[list[str], dict]:
+#: Above this many samples the markers are smaller and drawn as a raster inside vector
+#: output, so an SVG of thousands of samples stays small and quick to write.
+MANY_POINTS = 500
+
+
+def _marker_style(n: int, size: float) -> tuple[bool, float]:
+    """(rasterize, marker area) for ``n`` points."""
+    if n <= MANY_POINTS:
+        return False, size
+    return True, max(6.0, size * (MANY_POINTS / n) ** 0.5)
+
+
+def _group_styles(groups: Sequence[str] | None, n: int) -> tuple[np.ndarray, dict]:
     labels = ["sample"] * n if groups is None else [str(g) for g in groups]
     order = list(dict.fromkeys(labels))
+    labels = np.array(labels, dtype=object)
     styles = {
         g: (_GROUP_MARKERS[i % len(_GROUP_MARKERS)], _GROUP_COLOURS[i % len(_GROUP_COLOURS)])
         for i, g in enumerate(order)
@@ -148,6 +161,7 @@ def parity_plot(
     panels.append((f"chosen: {model_name}", np.asarray(predicted, dtype=float), model_rmse,
                    _MODEL_COLOUR))
     labels, styles = _group_styles(groups, len(y))
+    many, size = _marker_style(len(y), 38)
     with matplotlib.rc_context(_STYLE):
         fig = _new_figure((5.0 * len(panels) + 0.6, 5.0))
         axes = fig.subplots(1, len(panels), squeeze=False)[0]
@@ -172,14 +186,14 @@ def parity_plot(
             off = np.isfinite(pred) & ((pred < lim[0]) | (pred > lim[1]))
             shown = np.clip(pred, lim[0], lim[1])
             for g, (marker, gcolour) in styles.items():
-                mask = np.array([lab == g for lab in labels]) & np.isfinite(pred)
-                ax.scatter(y[mask & ~off], shown[mask & ~off], marker=marker, s=38,
+                mask = (labels == g) & np.isfinite(pred)
+                ax.scatter(y[mask & ~off], shown[mask & ~off], marker=marker, s=size,
                            color=gcolour, edgecolor=_INK, linewidth=0.5, zorder=3,
-                           label=g if groups is not None else "sample")
+                           label=g if groups is not None else "sample", rasterized=many)
                 if (mask & off).any():
-                    ax.scatter(y[mask & off], shown[mask & off], marker=marker, s=38,
+                    ax.scatter(y[mask & off], shown[mask & off], marker=marker, s=size,
                                facecolor="none", edgecolor=gcolour, linewidth=1.2, zorder=3,
-                               clip_on=False)
+                               clip_on=False, rasterized=many)
             if off.any():
                 worst = pred[off][np.argmax(np.abs(pred[off] - y[off]))]
                 ax.text(0.98, 0.03, f"{int(off.sum())} off scale (open markers at the edge; "
@@ -240,6 +254,7 @@ def residual_plot(
     r = np.asarray(residuals, dtype=float)
     names = list(descriptor_values)
     labels, styles = _group_styles(groups, len(r))
+    many, size = _marker_style(len(r), 34)
     ncols = 2 if len(names) > 1 else 1
     nrows = int(np.ceil(len(names) / ncols))
     with matplotlib.rc_context(_STYLE):
@@ -249,10 +264,10 @@ def residual_plot(
             x = np.asarray(descriptor_values[name], dtype=float)
             ax.axhline(0.0, color=_INK, linewidth=1.0, linestyle="--")
             for g, (marker, colour) in styles.items():
-                mask = np.array([lab == g for lab in labels])
-                ax.scatter(x[mask], r[mask], marker=marker, s=34, color=colour,
+                mask = labels == g
+                ax.scatter(x[mask], r[mask], marker=marker, s=size, color=colour,
                            edgecolor=_INK, linewidth=0.5, zorder=3,
-                           label=g if groups is not None else "sample")
+                           label=g if groups is not None else "sample", rasterized=many)
             ok = np.isfinite(x) & np.isfinite(r)
             if ok.sum() >= 3 and np.ptp(x[ok]) > 0:
                 slope, intercept = np.polyfit(x[ok], r[ok], 1)
