@@ -176,13 +176,12 @@ def parity_plot(
             line = np.array(lim)
             if np.isfinite(rmse):
                 ax.fill_between(line, line - rmse, line + rmse, color=colour, alpha=0.12,
-                                linewidth=0, label="± 1 standard uncertainty (RMSE) of the "
-                                                   "panel's model")
+                                linewidth=0, label="± 1 sd (the panel's RMSE)")
             ax.plot(line, line, color=_INK, linewidth=1.0, linestyle="--", label="1:1")
             if np.isfinite(baseline_rmse):
                 ax.axhline(float(np.nanmean(y)), color="#777777", linewidth=1.0,
-                           linestyle=":", label=f"mean-only baseline (RMSE "
-                                                f"{baseline_rmse:.3g})")
+                           linestyle=":", label=f"mean-only baseline, RMSE "
+                                                f"{baseline_rmse:.3g}")
             off = np.isfinite(pred) & ((pred < lim[0]) | (pred > lim[1]))
             shown = np.clip(pred, lim[0], lim[1])
             for g, (marker, gcolour) in styles.items():
