@@ -7,6 +7,7 @@ are imported only when a fit runs.
 
 from __future__ import annotations
 
+import math
 import sys
 from pathlib import Path
 
@@ -27,8 +28,9 @@ __all__ = ["fit"]
                    "output, e.g. cetane_number, cfpp_C, oxidation_stability_110C_h.")
 @input_options
 @click.option("--seed", type=int, default=0, show_default=True,
-              help="Seed of the repeated k-fold shuffles and the Gaussian-process optimizer.")
-@click.option("--tie-tolerance", type=click.FloatRange(0, 50), default=2.0, show_default=True,
+              help="Seed of the repeated k-fold shuffles and the Gaussian-process subsets "
+                   "(0 to 4294967295).")
+@click.option("--tie-tolerance", type=float, default=2.0, show_default=True,
               metavar="PCT", help="Candidates within PCT % of the best CV RMSE tie; a tie goes "
                                   "to the simpler model.")
 @click.option("--no-report", is_flag=True,
@@ -44,8 +46,11 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
     --property (blank cell: not measured). Each property is compared by cross-validation
     (leave-one-out below 30 samples, else 5-fold x 10 repeats): every published method as
     is and recalibrated (a + b x estimate), PLS and ridge on composition and on
-    descriptors, and a Gaussian process. The lowest held-out RMSE wins; ties go to the
-    simpler model. Use the model file with 'fame-estimator predict --model FILE.json'.
+    descriptors, and a Gaussian process, beside a mean-only baseline. The lowest held-out
+    RMSE wins; ties go to the simpler model. A model is said to beat a reference only
+    with a CV RMSE at least 10 % lower. Its band (the ± of predict --model) is one
+    standard uncertainty from cross-validation. Use the model file with
+    'fame-estimator predict --model FILE.json'.
 
     \b
     Examples:
@@ -60,6 +65,11 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
 
     if output and Path(output).suffix.lower() != ".json":
         raise UsageError(f"-o {output}: a model file must end in .json")
+    if not 0 <= seed <= 2**32 - 1:
+        raise UsageError(f"--seed {seed}: must be a whole number from 0 to {2**32 - 1}")
+    if not (math.isfinite(tie_tolerance) and 0.0 <= tie_tolerance <= 50.0):
+        raise UsageError(f"--tie-tolerance {tie_tolerance}: must be a number from 0 to 50 "
+                         "(per cent)")
     if output:
         from estimator.files import check_outputs
         from estimator.report.fit_sections import report_folder
@@ -79,8 +89,13 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
         fits = fit_properties(profile, properties, **kwargs)
     import pandas as pd
 
+    from estimator.refit.wording import candidate_words
+
     table = pd.concat([f.score_table() for f in fits], ignore_index=True)
     shown = table[["property", "candidate", "cv_rmse", "cv_mae", "cv_bias", "cv_r2", "chosen"]]
+    shown = shown.assign(candidate=[candidate_words(c, p) for c, p in
+                                    zip(shown["candidate"], shown["property"])])
+    shown = shown.rename(columns={"candidate": "model"})
     if not output:
         for f in fits:
             click.echo(f"{f.property} [{f.unit}]: {len(f.measured)} samples, "
@@ -91,6 +106,8 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
         click.echo(f"{f.property}: {f.statement}")
         for note in f.skipped:
             click.echo(f"  not evaluated: {note}")
+        for note in f.notes:
+            click.echo(f"  note: {note}")
     if output:
         from estimator.refit.model_file import file_provenance, save_models
 
@@ -99,6 +116,9 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
         click.echo(f"wrote {path} ({len(fits)} model{'s' if len(fits) > 1 else ''})", err=True)
         if not no_report:
             from estimator.report.fit_sections import write_fit_report
+
+            if sys.stderr.isatty():
+                click.echo("drawing the fit report ...", err=True)
 
             groups = _groups(profile)
             folder = write_fit_report(fits, path, table=table, groups=groups,

@@ -1,21 +1,35 @@
-"""Benchmark the refit: every candidate, leave-one-out, 40 samples, 4 properties.
+"""Benchmark the refit: the whole ``fit`` command at 40, 300 and 3,000 samples, then
+every candidate in-process (leave-one-out, 40 samples, 4 properties).
 
 Synthetic data (compositions drawn around built-in feedstock profiles, measurements
-from stated laws plus noise). Prints the wall time of the whole fit, the time per
-candidate kind, fits per second, and the same job under 5-fold x 10 repeats for
-comparison. Speed is measured here, never by a timed test.
+from stated laws plus noise). First part: for each size, a lab CSV with two measured
+properties (cetane number and CFPP) is written to a temporary folder and
+``fame-estimator fit LAB --property cetane_number --property cfpp_C -o model.json``
+runs as its own process (start-up, reading, cross-validation, model file and fit
+report with its figures); printed: wall time, the process's CPU time (user + sys: on a
+busy shared machine wall time grows, CPU time does not) and peak memory, with the
+machine's load average. The goal (issue: fits that scale) is 3,000 samples within
+60 s on a 2-core machine. Second part: the in-process job by candidate kind, and the
+same job under 5-fold x 10 repeats. Speed is measured here, never by a timed test.
 
-Usage:  .venv/bin/python scripts/bench_fit.py [--samples 40] [--repeat 1] [--threads]
-        (--threads: also time the leave-one-out job with BLAS left multi-threaded)
+Usage:  .venv/bin/python scripts/bench_fit.py [--sizes 40,300,3000] [--samples 40]
+            [--repeat 1] [--threads] [--no-kinds]
+        (--threads: also time the leave-one-out job with BLAS left multi-threaded;
+         --no-kinds: only the whole-command part)
 """
 
 from __future__ import annotations
 
 import argparse
 import os
+import resource
+import subprocess
+import sys
+import tempfile
 import time
 import warnings
 from collections import defaultdict
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -50,6 +64,58 @@ def synthetic_lab(n: int, seed: int = 1) -> Profile:
     measured.index = ids
     return Profile.from_frame(pd.DataFrame(w, index=ids, columns=species_keys()),
                               metadata=measured, source="synthetic")
+
+
+COMMAND_PROPERTIES = ("cetane_number", "cfpp_C")
+
+
+def write_lab_csv(n: int, path: Path) -> Path:
+    """The synthetic lab set of ``n`` samples as a CSV with two measured properties."""
+    profile = synthetic_lab(n)
+    comp = pd.DataFrame(profile.wt_pct, columns=species_keys())
+    comp = comp.loc[:, (comp > 0).any()].round(3)
+    measured = profile.metadata.reset_index(drop=True)[list(COMMAND_PROPERTIES)].round(2)
+    frame = pd.concat([pd.DataFrame({"sample": list(profile.samples)}), comp, measured],
+                      axis=1)
+    frame.to_csv(path, index=False)
+    return path
+
+
+def time_command(n: int, folder: Path) -> dict:
+    """Run the whole fit command on ``n`` samples in its own process; wall, CPU, memory."""
+    lab = write_lab_csv(n, folder / f"lab_{n}.csv")
+    exe = Path(sys.executable).with_name("fame-estimator")
+    cmd = [str(exe), "fit", str(lab)]
+    for prop in COMMAND_PROPERTIES:
+        cmd += ["--property", prop]
+    cmd += ["-o", str(folder / f"model_{n}.json")]
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    t0 = time.perf_counter()
+    done = subprocess.run(cmd, capture_output=True, text=True)
+    wall = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    if done.returncode != 0:
+        raise SystemExit(f"fit on {n} samples failed: {done.stderr.strip()}")
+    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+    return {"n": n, "wall": wall, "cpu": cpu, "peak_mb": after.ru_maxrss / 1024.0,
+            "stdout": done.stdout}
+
+
+def whole_command(sizes: list[int]) -> None:
+    """Print the whole-command table."""
+    load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
+    print(f"whole command: fame-estimator fit LAB --property cetane_number --property "
+          f"cfpp_C -o model.json (with the fit report); {os.cpu_count()} CPUs, load "
+          f"average {load:.1f} at start")
+    print(f"  {'samples':>7s}  {'wall s':>7s}  {'CPU s':>6s}  {'peak MB':>7s}")
+    with tempfile.TemporaryDirectory(prefix="bench_fit_") as tmp:
+        for n in sizes:
+            r = time_command(n, Path(tmp))
+            print(f"  {r['n']:7d}  {r['wall']:7.1f}  {r['cpu']:6.1f}  {r['peak_mb']:7.0f}",
+                  flush=True)
+    load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
+    print(f"  (load average {load:.1f} at the end; peak MB is the largest child process "
+          "so far)")
 
 
 def timed_kinds():
@@ -95,11 +161,20 @@ def run(profile: Profile, scheme: str) -> tuple[float, int, dict, dict]:
 
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--sizes", default="40,300,3000",
+                        help="sample counts of the whole-command part (comma-separated)")
+    parser.add_argument("--no-kinds", action="store_true",
+                        help="only the whole-command part")
     parser.add_argument("--samples", type=int, default=40)
     parser.add_argument("--repeat", type=int, default=1, help="runs of the LOO job (best kept)")
     parser.add_argument("--threads", action="store_true",
                         help="also time leave-one-out with multi-threaded BLAS")
     args = parser.parse_args()
+    sizes = [int(v) for v in args.sizes.split(",") if v.strip()]
+    if sizes:
+        whole_command(sizes)
+    if args.no_kinds:
+        return 0
     profile = synthetic_lab(args.samples)
     print(f"refit benchmark: {args.samples} synthetic samples, {len(PROPERTIES)} properties, "
           f"all candidates; {os.cpu_count()} CPUs; BLAS: {blas_info()}")

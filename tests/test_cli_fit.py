@@ -49,8 +49,12 @@ def test_fit_prints_the_scores_the_choice_and_the_caution():
     assert result.exit_code == 0, result.output
     out = result.output
     assert "cfpp_C [°C]: 25 samples, leave-one-out (seed 0)" in out  # 25 CFPP cells filled
-    assert "recalibrated:ramos2009" in out and "gp:descriptors" in out
-    assert "cfpp_C: Chosen: ramos2009 recalibrated to this lab" in out
+    # readers see author-year names, not method keys
+    assert "Ramos et al. 2009, recalibrated" in out and "Gaussian process on descriptors" in out
+    assert "recalibrated:ramos2009" not in out and "ramos2009" not in out
+    assert "mean-only baseline" in out
+    assert "cfpp_C: Chosen: Ramos et al. 2009, recalibrated, CV RMSE 1.44" in out
+    assert "band ± 1.44 (one standard uncertainty: the CV RMSE)" in out
     assert CAUTION_SHORT in out
     assert "cross-validating" not in out  # no progress bar when output is not a terminal
 
@@ -105,6 +109,41 @@ def test_an_unknown_property_is_a_usage_error_listing_valid_ones():
     assert result.output.startswith("fame-estimator: error: unknown property 'cetane'; valid "
                                     "properties: cetane_number, iodine_value_gI2_100g, cfpp_C")
     assert result.output.count("\n") == 1
+
+
+@pytest.mark.parametrize("args, message", [
+    (("--seed", "-1"), "--seed -1: must be a whole number from 0 to 4294967295"),
+    (("--seed", str(2**40)), f"--seed {2**40}: must be a whole number from 0 to 4294967295"),
+    (("--tie-tolerance", "nan"), "--tie-tolerance nan: must be a number from 0 to 50 "
+                                 "(per cent)"),
+    (("--tie-tolerance", "-3"), "--tie-tolerance -3.0: must be a number from 0 to 50 "
+                                "(per cent)"),
+], ids=["negative-seed", "huge-seed", "nan-tolerance", "negative-tolerance"])
+def test_a_bad_seed_or_tie_tolerance_is_one_line_exit_2(args, message):
+    result = run("fit", str(LAB), "--property", "cfpp_C", *args)
+    assert result.exit_code == 2
+    assert result.output == f"fame-estimator: error: {message}\n"
+
+
+def test_the_fit_report_shows_the_baseline_the_margin_and_the_band(model_path):
+    html = (model_path.parent / "lab_model_fit_report" / "report.html").read_text(
+        encoding="utf-8")
+    assert "mean-only baseline" in html
+    assert "at least 10 % lower" in html
+    assert "one standard uncertainty" in html
+    assert "ramos2009" not in html  # the author-year name instead of the method key
+    assert "Ramos et al. 2009" in html
+
+
+def test_predict_with_a_model_prints_the_cv_rmse_as_the_band(model_path):
+    # the band of a fitted linear model is its cross-validated RMSE (one standard
+    # uncertainty), the same number the fit statement prints
+    doc = json.loads(model_path.read_text(encoding="utf-8"))
+    for entry in doc["models"]:
+        if entry["kind"] != "gp":
+            rmse = next(r["rmse"] for r in entry["cv"]["scores"]
+                        if r["candidate"] == entry["candidate"])
+            assert entry["band"]["sd"] == pytest.approx(rmse)
 
 
 def test_property_is_required():

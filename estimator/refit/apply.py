@@ -1,7 +1,8 @@
 """Apply fitted model files to estimates: what ``predict --model`` does.
 
 A fitted property appears in the long table as its own method (``fit:<candidate>``)
-with its prediction interval as ``error`` and the lab training domain as
+with its band (one standard uncertainty, cross-validated) as ``error`` and the lab
+training domain as
 ``in_domain``; :func:`wide_with_models` makes it replace the default method in the
 wide table.
 """
@@ -38,8 +39,10 @@ def apply_models(profile, model_paths: Sequence[str | Path],
     -------
     DataFrame
         The same rows plus one row per sample and fitted property, with ``method``
-        ``fit:<candidate>`` (e.g. ``fit:ridge:composition``), ``error`` the half-width of
-        the 95 % prediction interval, ``in_domain`` from the lab training domain, and a
+        ``fit:<candidate>`` (e.g. ``fit:ridge:composition``), ``error`` one standard
+        uncertainty of a new measurement (the model's cross-validated RMSE, or a Gaussian
+        process's own sd calibrated by cross-validation; the same meaning as every other
+        error of the tool), ``in_domain`` from the lab training domain, and a
         ``note`` naming the model file, the training file and the CV RMSE. The input table
         is not modified. :func:`wide_with_models` makes the fitted method the one the
         wide table shows.
@@ -73,8 +76,8 @@ def apply_models(profile, model_paths: Sequence[str | Path],
             rmse = _cv_rmse(model)
             base = (
                 f"fitted {model.candidate} from model file {path.name} (training file "
-                f"{doc_training}, {model.n_samples} samples, CV RMSE {rmse:.3g}); error: 95 % "
-                f"prediction interval half-width ({model.interval_source})"
+                f"{doc_training}, {model.n_samples} samples, CV RMSE {rmse:.3g}); error: one "
+                f"standard uncertainty ({model.band_source})"
             )
             notes = [base if not r else f"{base}; {DOMAIN_MARK}{r}" for r in reasons]
             blocks.append(pd.DataFrame({

@@ -24,6 +24,23 @@ to the lower RMSE). Ranks: published 0, recalibrated 1, pls:descriptors 2,
 pls:composition 3, ridge:descriptors 4, ridge:composition 5, gp:descriptors 6.
 All features are standardized (training mean and standard deviation) before ridge,
 PLS and the Gaussian process.
+
+Beside them, every refit scores a **mean-only baseline** (kind ``mean``,
+:func:`baseline_candidate`): the mean of the training samples, composition ignored.
+It is never chosen; it is the yardstick a model must beat to be said to explain
+anything (a model no better than it has learnt nothing from the composition).
+
+**Cost of the Gaussian process.** A Gaussian process grows with the cube of its
+training samples. Up to :data:`GP_TUNE_MAX` training samples it is fitted as above on
+all of them. Beyond, the kernel is tuned (same optimizer, same start) on a seeded
+random :data:`GP_TUNE_MAX` of the training samples, and the process is then
+conditioned on a seeded random :data:`GP_MAX_TRAIN` of them (a superset of the
+tuning subset; all of them when fewer), with features and target standardized on all
+training samples. This runs inside every cross-validation fold on the fold's training
+samples only, so the held-out scores stay honest, and a fit costs at most one
+:data:`GP_TUNE_MAX`-sample optimization plus one :data:`GP_MAX_TRAIN`-sample
+Cholesky factorization whatever the size of the lab set. A model file therefore
+holds at most :data:`GP_MAX_TRAIN` training rows.
 """
 
 from __future__ import annotations
@@ -37,25 +54,33 @@ import numpy as np
 from estimator.refit.features import FEATURE_SETS, estimate_feature
 
 __all__ = [
-    "GP_INTERVAL_Z",
+    "BASELINE_KIND",
+    "GP_MAX_TRAIN",
+    "GP_TUNE_MAX",
     "KINDS",
     "PLS_COMPONENTS",
     "RIDGE_ALPHAS",
     "Candidate",
+    "baseline_candidate",
     "candidates_for",
     "predict_params",
     "single_threaded_blas",
     "sklearn_estimator",
 ]
 
-#: Kinds in complexity order, simplest first.
+#: Kinds in complexity order, simplest first (the kinds a model file may hold).
 KINDS = ("published", "recalibrated", "pls", "ridge", "gp")
+#: Kind of the mean-only baseline (scored beside the candidates, never chosen).
+BASELINE_KIND = "mean"
 #: Ridge penalties searched by the inner cross-validation (standardized features).
 RIDGE_ALPHAS = tuple(float(a) for a in np.logspace(-3, 3, 25))
 #: Latent components of the PLS candidates.
 PLS_COMPONENTS = 2
-#: Normal quantile of a two-sided 95 % interval (Gaussian process predictive interval).
-GP_INTERVAL_Z = 1.959963984540054
+#: Gaussian process: at most this many training samples tune the kernel [samples].
+GP_TUNE_MAX = 120
+#: Gaussian process: at most this many training samples condition the process (and are
+#: stored in a model file) [samples].
+GP_MAX_TRAIN = 500
 #: Gaussian process: jitter added to the kernel diagonal, as scikit-learn's default.
 GP_JITTER = 1e-10
 _FEATURE_SET_ORDER = ("descriptors", "composition")
@@ -77,6 +102,8 @@ class Candidate:
         y = np.asarray(y, dtype=float)
         if self.kind == "published":
             return {}, []
+        if self.kind == BASELINE_KIND:
+            return {"mean": float(y.mean())}, []
         if self.kind == "recalibrated":
             return _fit_recalibrated(x, y), []
         if self.kind == "ridge":
@@ -90,6 +117,11 @@ class Candidate:
     def predict(self, params: Mapping, x: np.ndarray) -> np.ndarray:
         """Predictions of fitted ``params`` on features ``x``."""
         return predict_params(self.kind, params, x)[0]
+
+
+def baseline_candidate() -> Candidate:
+    """The mean-only baseline: predicts the training mean whatever the composition."""
+    return Candidate("baseline:mean", BASELINE_KIND, ("other_species_wt_pct",), -1)
 
 
 def candidates_for(property_name: str, published_methods: Sequence[str]) -> list[Candidate]:
@@ -166,7 +198,12 @@ def _fit_pls(x: np.ndarray, y: np.ndarray) -> dict:
 
 
 def _fit_gp(x: np.ndarray, y: np.ndarray, *, seed: int) -> tuple[dict, list[str]]:
-    """Standardized features and target, scikit-learn GaussianProcessRegressor."""
+    """Standardized features and target, scikit-learn GaussianProcessRegressor.
+
+    Beyond :data:`GP_TUNE_MAX` samples, see :func:`_fit_gp_large`.
+    """
+    if len(y) > GP_TUNE_MAX:
+        return _fit_gp_large(x, y, seed=seed)
     model = sklearn_estimator("gp", seed=seed)
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
@@ -191,6 +228,55 @@ def _fit_gp(x: np.ndarray, y: np.ndarray, *, seed: int) -> tuple[dict, list[str]
     return params, notes
 
 
+def _fit_gp_large(x: np.ndarray, y: np.ndarray, *, seed: int) -> tuple[dict, list[str]]:
+    """Kernel tuned on a seeded :data:`GP_TUNE_MAX` subset, conditioned on :data:`GP_MAX_TRAIN`.
+
+    Features and target are standardized on all samples (as the small-set path does);
+    the conditioning subset starts with the tuning subset, so a set of at most
+    :data:`GP_MAX_TRAIN` samples is conditioned on in full.
+    """
+    from sklearn.gaussian_process import GaussianProcessRegressor
+
+    n = len(y)
+    order = np.random.default_rng(seed).permutation(n)
+    tune = np.sort(order[:GP_TUNE_MAX])
+    keep = np.sort(order[:GP_MAX_TRAIN])
+    x_mean, x_scale = _standardize(x)
+    y_mean, y_scale = _standardize(y[:, None])
+    z = (x - x_mean) / x_scale
+    t = (y - y_mean[0]) / y_scale[0]
+    gpr = GaussianProcessRegressor(
+        kernel=_gp_kernel(), alpha=GP_JITTER, normalize_y=False, n_restarts_optimizer=0,
+        random_state=seed,
+    )
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        gpr.fit(z[tune], t[tune])
+    notes = sorted({_short_warning(w.message) for w in caught})
+    kernel = gpr.kernel_
+    params = {
+        "x_mean": x_mean.tolist(),
+        "x_scale": x_scale.tolist(),
+        "y_mean": float(y_mean[0]),
+        "y_scale": float(y_scale[0]),
+        "constant": float(kernel.k1.k1.constant_value),
+        "length_scale": float(np.ravel(kernel.k1.k2.length_scale)[0]),
+        "noise_level": float(kernel.k2.noise_level),
+        "jitter": GP_JITTER,
+        "x_train": z[keep].tolist(),
+        "y_train": t[keep].tolist(),
+    }
+    return params, notes
+
+
+def _gp_kernel():
+    from sklearn.gaussian_process.kernels import RBF, ConstantKernel, WhiteKernel
+
+    return ConstantKernel(1.0, (1e-2, 1e2)) * RBF(1.0, (1e-2, 1e3)) + WhiteKernel(
+        0.1, (1e-6, 1e1)
+    )
+
+
 def _short_warning(message: Warning | str) -> str:
     text = str(message).strip().splitlines()[0]
     return text[:160]
@@ -206,7 +292,6 @@ def sklearn_estimator(kind: str, *, seed: int = 0, n_samples: int = 0, n_feature
     from sklearn.compose import TransformedTargetRegressor
     from sklearn.cross_decomposition import PLSRegression
     from sklearn.gaussian_process import GaussianProcessRegressor
-    from sklearn.gaussian_process.kernels import RBF, ConstantKernel, WhiteKernel
     from sklearn.linear_model import LinearRegression, RidgeCV
     from sklearn.pipeline import make_pipeline
     from sklearn.preprocessing import StandardScaler
@@ -221,11 +306,8 @@ def sklearn_estimator(kind: str, *, seed: int = 0, n_samples: int = 0, n_feature
             k = max(1, min(k, n_features, n_samples - 1))
         return PLSRegression(n_components=k, scale=True)
     if kind == "gp":
-        kernel = ConstantKernel(1.0, (1e-2, 1e2)) * RBF(1.0, (1e-2, 1e3)) + WhiteKernel(
-            0.1, (1e-6, 1e1)
-        )
         gpr = GaussianProcessRegressor(
-            kernel=kernel, alpha=GP_JITTER, normalize_y=False, n_restarts_optimizer=0,
+            kernel=_gp_kernel(), alpha=GP_JITTER, normalize_y=False, n_restarts_optimizer=0,
             random_state=seed,
         )
         return TransformedTargetRegressor(
@@ -257,15 +339,18 @@ def predict_params(
 ) -> tuple[np.ndarray, np.ndarray | None]:
     """Evaluate fitted parameters on features with numpy alone.
 
-    Returns ``(value, half_width)``; ``half_width`` is the 95 % predictive
-    half-interval of a Gaussian process and None for the other kinds (their
-    interval comes from the cross-validated error, see the model file).
+    Returns ``(value, sd)``; ``sd`` is the predictive standard deviation of a
+    Gaussian process (of a new measurement, noise included, before the
+    cross-validated calibration of the model file) and None for the other kinds
+    (their band is the cross-validated RMSE, see the model file).
     """
     x = np.asarray(x, dtype=float)
     if x.ndim != 2:
         raise ValueError("features must be a 2-D array")
     if kind == "published":
         return x[:, 0].copy(), None
+    if kind == BASELINE_KIND:
+        return np.full(x.shape[0], float(params["mean"])), None
     if kind == "recalibrated":
         return params["intercept"] + params["slope"] * x[:, 0], None
     if kind in ("ridge", "pls"):
@@ -284,8 +369,13 @@ def _rbf(a: np.ndarray, b: np.ndarray, length_scale: float) -> np.ndarray:
     return np.exp(-0.5 * np.maximum(sq, 0.0))
 
 
+#: Gaussian-process prediction works on blocks of this many kernel entries (new
+#: samples x training rows), so memory stays flat for any number of new samples.
+GP_BLOCK_ENTRIES = 2_000_000
+
+
 def _predict_gp(params: Mapping, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Gaussian-process mean and 95 % predictive half-interval (noise included)."""
+    """Gaussian-process mean and predictive standard deviation (noise included)."""
     from scipy.linalg import cho_solve, cholesky, solve_triangular
 
     xt = np.asarray(params["x_train"], dtype=float)
@@ -296,9 +386,14 @@ def _predict_gp(params: Mapping, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]
     chol = cholesky(k, lower=True, check_finite=False)
     alpha = cho_solve((chol, True), yt, check_finite=False)
     z = (x - np.asarray(params["x_mean"])) / np.asarray(params["x_scale"])
-    k_star = c * _rbf(z, xt, ls)
-    mean = k_star @ alpha
-    v = solve_triangular(chol, k_star.T, lower=True, check_finite=False)
-    var = np.maximum(c + noise - np.einsum("ij,ij->j", v, v), 0.0)
+    mean = np.empty(len(z))
+    var = np.empty(len(z))
+    step = max(1, GP_BLOCK_ENTRIES // max(len(xt), 1))
+    for start in range(0, len(z), step):
+        block = slice(start, start + step)
+        k_star = c * _rbf(z[block], xt, ls)
+        mean[block] = k_star @ alpha
+        v = solve_triangular(chol, k_star.T, lower=True, check_finite=False)
+        var[block] = np.maximum(c + noise - np.einsum("ij,ij->j", v, v), 0.0)
     y_scale = params["y_scale"]
-    return mean * y_scale + params["y_mean"], GP_INTERVAL_Z * np.sqrt(var) * y_scale
+    return mean * y_scale + params["y_mean"], np.sqrt(var) * y_scale

@@ -18,7 +18,20 @@ over the repeats:
 The choice: the lowest cross-validated RMSE wins, except that any candidate within
 :data:`TIE_TOLERANCE` (2 %) of the best RMSE ties with it, and a tie goes to the
 simpler one (the complexity order of :mod:`estimator.refit.candidates`: published,
-recalibrated, PLS, ridge, Gaussian process).
+recalibrated, PLS, ridge, Gaussian process). The mean-only baseline is scored the
+same way (the mean of each fold's training samples, scored on its held-out ones) but
+never chosen.
+
+**What the fit says.** A fitted model is said to *beat* a reference only when its CV
+RMSE is at least :data:`BEAT_MARGIN` (10 %) below the reference's; the statement
+compares the chosen model with both the best published method and the mean-only
+baseline, and names each one it does not beat by that margin.
+
+**The band.** The chosen model's band is one standard uncertainty of a new
+measurement: its CV RMSE, or for a Gaussian process its own predictive standard
+deviation times :attr:`CVResult.sd_scale`, the root mean square of the held-out
+residuals divided by the held-out standard deviations (so the band covers the
+held-out errors on average, whatever the process thought of itself).
 """
 
 from __future__ import annotations
@@ -31,9 +44,13 @@ import pandas as pd
 
 from estimator.errors import InputFileError, UnknownNameError, UsageError
 from estimator.profiles.profile import Profile
+from estimator.refit import limits
 from estimator.refit.candidates import (
-    GP_INTERVAL_Z,
+    BASELINE_KIND,
+    GP_MAX_TRAIN,
+    GP_TUNE_MAX,
     Candidate,
+    baseline_candidate,
     candidates_for,
     predict_params,
     single_threaded_blas,
@@ -42,6 +59,7 @@ from estimator.refit.features import TrainingDomain, compute_features, published
 from estimator.refit.model_file import FittedModel
 
 __all__ = [
+    "BEAT_MARGIN",
     "INDICATOR_PROPERTIES",
     "LOO_BELOW",
     "MIN_SAMPLES",
@@ -69,6 +87,10 @@ N_REPEATS = 10
 MIN_SAMPLES = 10
 #: Candidates within this fraction of the best cross-validated RMSE tie with it.
 TIE_TOLERANCE = 0.02
+#: A model "beats" a reference only with a CV RMSE at least this fraction lower.
+BEAT_MARGIN = 0.10
+#: Largest seed (numpy's legacy seeds, which scikit-learn's splitters use, are 32-bit).
+MAX_SEED = 2**32 - 1
 #: Registry properties that are ranking indices, not measured quantities.
 INDICATOR_PROPERTIES = ("oxidizability_indicator_wt_pct",)
 
@@ -158,6 +180,9 @@ class CVResult:
     r2: float
     rmse_sd: float
     notes: tuple[str, ...] = ()
+    #: Gaussian process: factor on its own predictive sd that makes the held-out
+    #: standardized residuals have a root mean square of 1 (1.0 for other kinds).
+    sd_scale: float = 1.0
 
     @property
     def heldout_mean(self) -> np.ndarray:
@@ -177,23 +202,51 @@ def cross_validate(
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
     preds = np.full((len(scheme.repeats), len(y)), np.nan)
+    sds = np.full((len(scheme.repeats), len(y)), np.nan)
     notes: set[str] = set()
     for r, folds in enumerate(scheme.repeats):
         for train, test in folds:
             params, fold_notes = candidate.fit(x[train], y[train], seed=scheme.seed)
             notes.update(fold_notes)
-            preds[r, test] = predict_params(candidate.kind, params, x[test])[0]
-        if progress is not None:
-            progress(len(folds))
+            value, sd = predict_params(candidate.kind, params, x[test])
+            preds[r, test] = value
+            if sd is not None:
+                sds[r, test] = sd
+            if progress is not None:
+                progress(1)
     per_repeat = [scores(y, p) for p in preds]
     rmse = np.array([s["rmse"] for s in per_repeat])
+    sd_scale = 1.0
+    if candidate.kind == "gp":
+        sd_scale = gp_sd_scale(y, preds, sds)
     return CVResult(
         candidate, preds, float(rmse.mean()),
         float(np.mean([s["mae"] for s in per_repeat])),
         float(np.mean([s["bias"] for s in per_repeat])),
         float(np.mean([s["r2"] for s in per_repeat])),
-        float(rmse.std()) if np.ptp(rmse) > 0 else 0.0, tuple(sorted(notes)),
+        float(rmse.std()) if np.ptp(rmse) > 0 else 0.0, tuple(sorted(notes)), sd_scale,
     )
+
+
+def gp_sd_scale(measured: np.ndarray, predictions: np.ndarray, sds: np.ndarray) -> float:
+    """Root mean square of held-out residuals over held-out predictive sds.
+
+    Multiplying the process's own sd by this factor makes the band cover the held-out
+    errors on average (a well-calibrated process gives about 1). Clipped to
+    :data:`estimator.refit.limits.GP_SD_SCALE_RANGE`.
+
+    Examples
+    --------
+    >>> y = np.zeros(4); p = np.array([[1.0, -1.0, 2.0, -2.0]]); sd = np.ones((1, 4))
+    >>> round(gp_sd_scale(y, p, sd), 4)
+    1.5811
+    """
+    z = (np.asarray(predictions) - np.asarray(measured)[None, :]) / np.asarray(sds)
+    z = z[np.isfinite(z)]
+    if z.size == 0:
+        return 1.0
+    lo, hi = limits.GP_SD_SCALE_RANGE
+    return float(np.clip(np.sqrt(np.mean(z ** 2)), lo, hi))
 
 
 def choose(results: Sequence[CVResult], tolerance: float = TIE_TOLERANCE) -> CVResult:
@@ -210,6 +263,7 @@ def choose(results: Sequence[CVResult], tolerance: float = TIE_TOLERANCE) -> CVR
     >>> choose([res("simple", 0, 1.03), res("complex", 5, 1.0)]).candidate.name
     'complex'
     """
+    results = [r for r in results if r.candidate.kind != BASELINE_KIND]
     if not results:
         raise ValueError("no candidate was evaluated")
     best = min(r.rmse for r in results)
@@ -233,6 +287,8 @@ class PropertyFit:
     statement: str
     model: FittedModel
     skipped: tuple[str, ...] = field(default=())
+    baseline: CVResult | None = None
+    notes: tuple[str, ...] = field(default=())
 
     def score_table(self) -> pd.DataFrame:
         """One row per candidate, best CV RMSE first, with the choice marked."""
@@ -280,15 +336,8 @@ def measured_values(profile: Profile, property_name: str) -> np.ndarray:
     return _plausible(parsed.to_numpy(dtype=float), profile, property_name)
 
 
-#: Physically plausible ranges of measured FAME properties (common practice: wide bands
-#: around every biodiesel and pure ester, meant to catch unit and typing slips only).
-PLAUSIBLE = {
-    "cetane_number": (0.0, 120.0), "iodine_value_gI2_100g": (0.0, 300.0),
-    "cfpp_C": (-60.0, 60.0), "cloud_point_C": (-60.0, 60.0), "pour_point_C": (-70.0, 60.0),
-    "oxidation_stability_110C_h": (0.0, 500.0), "density_15C_kg_m3": (750.0, 1000.0),
-    "kin_viscosity_40C_mm2_s": (0.5, 30.0), "hhv_MJ_kg": (30.0, 45.0),
-    "lhv_MJ_kg": (28.0, 43.0),
-}
+#: Physically plausible ranges of measured FAME properties (see :mod:`~estimator.refit.limits`).
+PLAUSIBLE = limits.PLAUSIBLE
 
 
 def _plausible(values: np.ndarray, profile: Profile, property_name: str) -> np.ndarray:
@@ -361,6 +410,7 @@ def fit_property(
     progress : callable, optional
         Called with the number of fold fits just done (for a progress bar).
     """
+    check_options(seed, tolerance)
     unit, methods = check_property(property_name)
     label = profile.source or "input"
     y_all = measured_values(profile, property_name)
@@ -383,15 +433,18 @@ def fit_property(
     candidates = candidates_for(property_name, methods)
     if kinds is not None:
         candidates = [c for c in candidates if c.kind in kinds]
+    candidates = [baseline_candidate(), *candidates]
     splits = cv_scheme(n, seed=seed, scheme=scheme)
     with single_threaded_blas():
         results, skipped, matrices = _evaluate(candidates, wt, y, estimates, samples, splits,
                                                progress)
         chosen = choose(results, tolerance)
         params, notes = chosen.candidate.fit(matrices[chosen.candidate.name], y, seed=seed)
+    baseline = results[0]
     published = [r for r in results if r.candidate.kind == "published"]
     best_pub = min(published, key=lambda r: r.rmse) if published else None
-    statement = _statement(chosen, best_pub, results, tolerance, n)
+    statement = _statement(chosen, best_pub, baseline, tolerance, n, property_name)
+    fit_notes = gp_cost_note(n) if any(r.candidate.kind == "gp" for r in results) else ""
     domain = TrainingDomain.from_training(wt)
     model = FittedModel(
         property=property_name,
@@ -402,13 +455,15 @@ def fit_property(
         features=chosen.candidate.features,
         params=params,
         domain=domain,
-        interval_half_width=float(GP_INTERVAL_Z * chosen.rmse),
+        band_sd=float(chosen.rmse),
+        gp_sd_scale=float(chosen.sd_scale),
         n_samples=n,
         cv={
             "scheme": splits.describe(),
             "tie_tolerance": tolerance,
             "chosen": chosen.candidate.name,
             "statement": statement,
+            "beat_margin": BEAT_MARGIN,
             "scores": [
                 {"candidate": r.candidate.name, "kind": r.candidate.kind,
                  "complexity": r.candidate.complexity, "rmse": r.rmse, "mae": r.mae,
@@ -416,11 +471,46 @@ def fit_property(
                 for r in results
             ],
         },
-        notes=tuple(notes),
+        notes=tuple(notes) + ((fit_notes,) if fit_notes and chosen.candidate.kind == "gp"
+                              else ()),
     )
     return PropertyFit(
         property_name, unit, samples, y, wt, splits, tuple(results), chosen, best_pub,
-        statement, model, tuple(skipped),
+        statement, model, tuple(skipped), baseline, (fit_notes,) if fit_notes else (),
+    )
+
+
+def check_options(seed: int, tolerance: float) -> None:
+    """Refuse a seed outside 0 to 2**32 - 1 or a tie tolerance that is not a fraction.
+
+    Examples
+    --------
+    >>> check_options(-1, 0.02)
+    Traceback (most recent call last):
+    ...
+    estimator.errors.UsageError: seed -1: must be a whole number from 0 to 4294967295
+    """
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or not (
+        0 <= seed <= MAX_SEED
+    ):
+        raise UsageError(f"seed {seed}: must be a whole number from 0 to {MAX_SEED}")
+    if not isinstance(tolerance, (int, float, np.floating)) or not (
+        np.isfinite(tolerance) and 0.0 <= tolerance <= 0.5
+    ):
+        raise UsageError(f"tie tolerance {tolerance}: must be a number from 0 to 0.5 "
+                         "(0 % to 50 %)")
+
+
+def gp_cost_note(n: int) -> str:
+    """How the Gaussian process was fitted on a large lab set ("" when on all samples)."""
+    if n <= GP_TUNE_MAX:
+        return ""
+    cond = "all of them" if n <= GP_MAX_TRAIN else f"a seeded random {GP_MAX_TRAIN}"
+    return (
+        f"Gaussian process on {n} samples (more than {GP_TUNE_MAX}): in every fold, and "
+        f"for the model file, its kernel is tuned on a seeded random {GP_TUNE_MAX} of the "
+        f"training samples and the process is conditioned on {cond} "
+        f"(at most {GP_MAX_TRAIN}); scores stay held-out."
     )
 
 
@@ -476,7 +566,7 @@ def total_fits(profile: Profile, properties: Sequence[str], scheme: str = "auto"
             continue
         loo = n < LOO_BELOW if scheme == "auto" else scheme == "leave-one-out"
         n_splits = n if loo else N_FOLDS * N_REPEATS
-        total += n_splits * len(candidates_for(prop, methods))
+        total += n_splits * (1 + len(candidates_for(prop, methods)))
     return total
 
 
@@ -487,37 +577,53 @@ def _published(wt: np.ndarray, prop: str, methods: Sequence[str]) -> dict[str, n
         return published_estimates(wt, [estimate_feature(prop, m) for m in methods])
 
 
+def _gain(model: CVResult, reference: CVResult) -> float:
+    """Fraction by which ``model``'s CV RMSE is below ``reference``'s."""
+    return 1.0 - model.rmse / reference.rmse if reference.rmse > 0 else 0.0
+
+
+def _pct(fraction: float) -> str:
+    return f"{100.0 * fraction:.0f} %"
+
+
 def _statement(
     chosen: CVResult,
     best_pub: CVResult | None,
-    results: Sequence[CVResult],
+    baseline: CVResult,
     tolerance: float,
     n: int,
+    property_name: str,
 ) -> str:
-    name = chosen.candidate.name
+    """What the fit found, in words: the choice, its band, and whom it beats (or not)."""
+    from estimator.refit.wording import candidate_words, method_words
+
+    margin = _pct(BEAT_MARGIN)
+    rule = (f"'beats' means a CV RMSE at least {margin} lower; ties within "
+            f"{_pct(tolerance)} go to the simpler model")
+    base = f"the mean-only baseline (CV RMSE {baseline.rmse:.3g})"
+    name = candidate_words(chosen.candidate.name, property_name)
     kind = chosen.candidate.kind
-    tie = f"ties within {tolerance:.0%} go to the simpler model"
+    band = (f"band ± {chosen.rmse:.3g} (one standard uncertainty: the CV RMSE)"
+            if kind != "gp" else
+            f"band: its own sd x {chosen.sd_scale:.3g} (one standard uncertainty, "
+            "calibrated on the held-out residuals)")
+    head = f"{name}, CV RMSE {chosen.rmse:.3g}, CV R² {chosen.r2:.2f}; {band}"
+    gain_base = _gain(chosen, baseline)
+    vs_base = (f"it beats {base} by {_pct(gain_base)}" if gain_base >= BEAT_MARGIN else
+               f"it does not beat {base} by {margin}")
     if best_pub is None:
-        return (
-            f"No published method could be evaluated on all {n} samples; chosen {name} "
-            f"(CV RMSE {chosen.rmse:.3g}; {tie})."
-        )
-    pub = best_pub.candidate.method
+        return (f"No published method could be evaluated on all {n} samples. Chosen: "
+                f"{head}. {vs_base.capitalize()} ({rule}).")
+    pub_name = method_words(property_name, best_pub.candidate.method)
+    pub = f"the best published method, {pub_name} (CV RMSE {best_pub.rmse:.3g})"
     if kind == "published":
-        return (
-            f"No model fitted on these {n} samples beats the published method {pub} "
-            f"(CV RMSE {chosen.rmse:.3g}); the model file records {chosen.candidate.method} "
-            f"as published ({tie})."
-        )
-    if kind == "recalibrated":
-        return (
-            f"Chosen: {chosen.candidate.method} recalibrated to this lab (a + b x estimate), "
-            f"CV RMSE {chosen.rmse:.3g}; no composition model (ridge, PLS, Gaussian process) "
-            f"does better. Best published method as is: {pub}, CV RMSE {best_pub.rmse:.3g} "
-            f"({tie})."
-        )
-    gain = 100.0 * (1.0 - chosen.rmse / best_pub.rmse)
-    return (
-        f"Chosen: {name}, CV RMSE {chosen.rmse:.3g}: it beats the best published method "
-        f"{pub} (CV RMSE {best_pub.rmse:.3g}) by {gain:.0f} % ({tie})."
-    )
+        return (f"Kept as is: {head}. No model fitted on these {n} samples beats this best "
+                f"published method; {vs_base} ({rule}).")
+    gain_pub = _gain(chosen, best_pub)
+    if gain_pub >= BEAT_MARGIN and gain_base >= BEAT_MARGIN:
+        return (f"Chosen: {head}. It beats {pub} by {_pct(gain_pub)} and {base} by "
+                f"{_pct(gain_base)} ({rule}).")
+    missed = [what for what, gain in ((pub, gain_pub), (base, gain_base))
+              if gain < BEAT_MARGIN]
+    return (f"Chosen: {head}, the lowest CV RMSE here; but it does not beat "
+            f"{' nor '.join(missed)} by {margin}: treat it as no better ({rule}).")

@@ -22,6 +22,9 @@ features) whatever features the model itself uses:
   training samples to their nearest other training sample, in standardized units
   (each feature divided by its training standard deviation, floored at
   :data:`SCALE_FLOOR_WT_PCT` so a species that barely varies does not dominate).
+  A lab set larger than :data:`MAX_DOMAIN_POINTS` keeps a seeded random
+  :data:`MAX_DOMAIN_POINTS` of its samples as the domain's points (bounds, centre and
+  scale still come from all samples), so a model file stays bounded.
 
 A sample is in the domain when it lies within every bound and no farther from its
 nearest training sample than the threshold.
@@ -45,6 +48,7 @@ __all__ = [
     "DOMAIN_FEATURES",
     "DOMAIN_PERCENTILE",
     "FEATURE_SETS",
+    "MAX_DOMAIN_POINTS",
     "MAIN_SPECIES",
     "OTHER_SPECIES",
     "SCALE_FLOOR_WT_PCT",
@@ -98,6 +102,8 @@ MAX_REASONS = 3
 SCALE_FLOOR_WT_PCT = 1.0
 #: Percentile of the leave-one-out nearest-neighbour distances taken as threshold.
 DOMAIN_PERCENTILE = 95.0
+#: At most this many training samples are kept as the domain's points [samples].
+MAX_DOMAIN_POINTS = 5000
 
 #: Feature values smaller than this (in the feature's unit) are floating-point noise.
 FEATURE_NOISE = 1e-9
@@ -276,16 +282,18 @@ class TrainingDomain:
         center = x.mean(axis=0)
         scale = np.maximum(x.std(axis=0), SCALE_FLOOR_WT_PCT)
         points = (x - center) / scale
-        d = _pairwise(points, points)
-        np.fill_diagonal(d, np.inf)
-        threshold = float(np.percentile(d.min(axis=1), DOMAIN_PERCENTILE))
+        if len(points) > MAX_DOMAIN_POINTS:
+            keep = np.random.default_rng(0).permutation(len(points))[:MAX_DOMAIN_POINTS]
+            points = points[np.sort(keep)]
+        threshold = float(np.percentile(_nearest(points, points, skip_self=True),
+                                        DOMAIN_PERCENTILE))
         lower = np.maximum(lo - margin, 0.0)
         return cls(DOMAIN_FEATURES, lower, hi + margin, center, scale, points, threshold)
 
     def distance(self, wt_pct: np.ndarray) -> np.ndarray:
         """Standardized Euclidean distance of each sample to its nearest training sample [1]."""
         x = compute_features(wt_pct, self.features)
-        return _pairwise((x - self.center) / self.scale, self.points).min(axis=1)
+        return _nearest((x - self.center) / self.scale, self.points)
 
     def within_bounds(self, wt_pct: np.ndarray) -> np.ndarray:
         """True where every feature lies within the widened training bounds."""
@@ -311,7 +319,7 @@ class TrainingDomain:
         'C12:0 100 wt % outside the lab range 0-1 wt %'
         """
         x = compute_features(wt_pct, self.features)
-        dist = _pairwise((x - self.center) / self.scale, self.points).min(axis=1)
+        dist = _nearest((x - self.center) / self.scale, self.points)
         width = np.maximum(self.upper - self.lower, 1e-9)
         excess = np.maximum(self.lower - x, 0.0) + np.maximum(x - self.upper, 0.0)
         out = []
@@ -372,7 +380,31 @@ class TrainingDomain:
         )
 
 
-def _pairwise(a: np.ndarray, b: np.ndarray) -> np.ndarray:
-    """Euclidean distances between the rows of ``a`` and of ``b``."""
-    diff = a[:, None, :] - b[None, :, :]
-    return np.sqrt(np.einsum("ijk,ijk->ij", diff, diff))
+#: Nearest-neighbour searches work on blocks of this many distances, so memory stays
+#: flat for any number of samples.
+BLOCK_ENTRIES = 2_000_000
+
+
+def _nearest(a: np.ndarray, b: np.ndarray, *, skip_self: bool = False) -> np.ndarray:
+    """Euclidean distance of each row of ``a`` to its nearest row of ``b``.
+
+    ``skip_self``: ``a`` is ``b`` and a row is not its own neighbour (leave-one-out).
+    Computed in blocks of rows of ``a``: the squared-distance expansion picks the nearest
+    row (two rows whose distances differ by less than rounding may swap), whose distance
+    is then computed exactly from the difference.
+    """
+    a = np.asarray(a, dtype=float)
+    b = np.asarray(b, dtype=float)
+    out = np.empty(len(a))
+    b_sq = np.einsum("ij,ij->i", b, b)
+    step = max(1, BLOCK_ENTRIES // max(len(b), 1))
+    for start in range(0, len(a), step):
+        block = a[start:start + step]
+        sq = np.einsum("ij,ij->i", block, block)[:, None] + b_sq[None, :] - 2.0 * block @ b.T
+        rows = np.arange(len(block))
+        if skip_self:
+            sq[rows, start + rows] = np.inf
+        # the expansion finds the nearest row; its distance is then taken exactly
+        diff = block - b[np.argmin(sq, axis=1)]
+        out[start:start + step] = np.sqrt(np.einsum("ij,ij->i", diff, diff))
+    return out

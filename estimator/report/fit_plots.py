@@ -83,9 +83,22 @@ def _new_figure(size: tuple[float, float]):
     return fig
 
 
-def _group_styles(groups: Sequence[str] | None, n: int) -> tuple[list[str], dict]:
+#: Above this many samples the markers are smaller and drawn as a raster inside vector
+#: output, so an SVG of thousands of samples stays small and quick to write.
+MANY_POINTS = 500
+
+
+def _marker_style(n: int, size: float) -> tuple[bool, float]:
+    """(rasterize, marker area) for ``n`` points."""
+    if n <= MANY_POINTS:
+        return False, size
+    return True, max(6.0, size * (MANY_POINTS / n) ** 0.5)
+
+
+def _group_styles(groups: Sequence[str] | None, n: int) -> tuple[np.ndarray, dict]:
     labels = ["sample"] * n if groups is None else [str(g) for g in groups]
     order = list(dict.fromkeys(labels))
+    labels = np.array(labels, dtype=object)
     styles = {
         g: (_GROUP_MARKERS[i % len(_GROUP_MARKERS)], _GROUP_COLOURS[i % len(_GROUP_COLOURS)])
         for i, g in enumerate(order)
@@ -106,6 +119,7 @@ def parity_plot(
     published_rmse: float = float("nan"),
     groups: Sequence[str] | None = None,
     title: str | None = None,
+    baseline_rmse: float = float("nan"),
 ):
     """Measured against held-out predicted: the best published method beside the model.
 
@@ -125,11 +139,15 @@ def parity_plot(
         Its name and RMSE on the lab samples. [unit]
     groups : sequence of str, optional
         A group per sample (e.g. feedstock), shown by marker shape and colour.
+    baseline_rmse : float, optional
+        CV RMSE of the mean-only baseline; when given, its prediction (the mean of the
+        measurements) is drawn as a dotted horizontal line in every panel. [unit]
 
     Returns
     -------
     matplotlib.figure.Figure
-        One panel per model, equal axes, the 1:1 line and a band of +/- 1.96 x RMSE.
+        One panel per model, equal axes, the 1:1 line and a band of ± one standard
+        uncertainty (the panel model's RMSE).
     """
     import matplotlib
 
@@ -143,6 +161,7 @@ def parity_plot(
     panels.append((f"chosen: {model_name}", np.asarray(predicted, dtype=float), model_rmse,
                    _MODEL_COLOUR))
     labels, styles = _group_styles(groups, len(y))
+    many, size = _marker_style(len(y), 38)
     with matplotlib.rc_context(_STYLE):
         fig = _new_figure((5.0 * len(panels) + 0.6, 5.0))
         axes = fig.subplots(1, len(panels), squeeze=False)[0]
@@ -156,28 +175,31 @@ def parity_plot(
         for ax, (name, pred, rmse, colour) in zip(axes, panels):
             line = np.array(lim)
             if np.isfinite(rmse):
-                band = 1.959963984540054 * rmse
-                ax.fill_between(line, line - band, line + band, color=colour, alpha=0.12,
-                                linewidth=0, label="±1.96 × RMSE of the panel's model")
+                ax.fill_between(line, line - rmse, line + rmse, color=colour, alpha=0.12,
+                                linewidth=0, label="± 1 sd (the panel's RMSE)")
             ax.plot(line, line, color=_INK, linewidth=1.0, linestyle="--", label="1:1")
+            if np.isfinite(baseline_rmse):
+                ax.axhline(float(np.nanmean(y)), color="#777777", linewidth=1.0,
+                           linestyle=":", label=f"mean-only baseline, RMSE "
+                                                f"{baseline_rmse:.3g}")
             off = np.isfinite(pred) & ((pred < lim[0]) | (pred > lim[1]))
             shown = np.clip(pred, lim[0], lim[1])
             for g, (marker, gcolour) in styles.items():
-                mask = np.array([lab == g for lab in labels]) & np.isfinite(pred)
-                ax.scatter(y[mask & ~off], shown[mask & ~off], marker=marker, s=38,
+                mask = (labels == g) & np.isfinite(pred)
+                ax.scatter(y[mask & ~off], shown[mask & ~off], marker=marker, s=size,
                            color=gcolour, edgecolor=_INK, linewidth=0.5, zorder=3,
-                           label=g if groups is not None else "sample")
+                           label=g if groups is not None else "sample", rasterized=many)
                 if (mask & off).any():
-                    ax.scatter(y[mask & off], shown[mask & off], marker=marker, s=38,
+                    ax.scatter(y[mask & off], shown[mask & off], marker=marker, s=size,
                                facecolor="none", edgecolor=gcolour, linewidth=1.2, zorder=3,
-                               clip_on=False)
+                               clip_on=False, rasterized=many)
             if off.any():
                 worst = pred[off][np.argmax(np.abs(pred[off] - y[off]))]
                 ax.text(0.98, 0.03, f"{int(off.sum())} off scale (open markers at the edge; "
                         f"worst {worst:.3g})", transform=ax.transAxes, ha="right",
                         va="bottom", fontsize=8, color=_INK)
             r2 = _r2(y, pred)
-            band_text = f", band ±{1.959963984540054 * rmse:.3g}" if np.isfinite(rmse) else ""
+            band_text = f", band ± {rmse:.3g} (1 sd)" if np.isfinite(rmse) else ""
             ax.set_title(f"{name}\nheld-out RMSE {rmse:.3g}, R² {r2:.3f}{band_text}",
                          loc="left")
             ax.set_xlim(lim)
@@ -231,6 +253,7 @@ def residual_plot(
     r = np.asarray(residuals, dtype=float)
     names = list(descriptor_values)
     labels, styles = _group_styles(groups, len(r))
+    many, size = _marker_style(len(r), 34)
     ncols = 2 if len(names) > 1 else 1
     nrows = int(np.ceil(len(names) / ncols))
     with matplotlib.rc_context(_STYLE):
@@ -240,10 +263,10 @@ def residual_plot(
             x = np.asarray(descriptor_values[name], dtype=float)
             ax.axhline(0.0, color=_INK, linewidth=1.0, linestyle="--")
             for g, (marker, colour) in styles.items():
-                mask = np.array([lab == g for lab in labels])
-                ax.scatter(x[mask], r[mask], marker=marker, s=34, color=colour,
+                mask = labels == g
+                ax.scatter(x[mask], r[mask], marker=marker, s=size, color=colour,
                            edgecolor=_INK, linewidth=0.5, zorder=3,
-                           label=g if groups is not None else "sample")
+                           label=g if groups is not None else "sample", rasterized=many)
             ok = np.isfinite(x) & np.isfinite(r)
             if ok.sum() >= 3 and np.ptp(x[ok]) > 0:
                 slope, intercept = np.polyfit(x[ok], r[ok], 1)
@@ -276,22 +299,25 @@ def fit_figures(fit, groups: Sequence[str] | None = None) -> dict:
     ones averaged over the cross-validation repeats.
     """
     from estimator.properties.descriptors import descriptors
+    from estimator.refit.wording import candidate_words, method_words
 
     chosen = fit.chosen
     pub = fit.best_published
     parity = parity_plot(
-        fit.measured, chosen.heldout_mean, model_name=chosen.candidate.name,
+        fit.measured, chosen.heldout_mean,
+        model_name=candidate_words(chosen.candidate.name, fit.property),
         model_rmse=chosen.rmse, property_name=fit.property, unit=fit.unit,
         published=None if pub is None or pub is chosen else pub.heldout_mean,
-        published_name="" if pub is None else pub.candidate.method,
+        published_name="" if pub is None else method_words(fit.property, pub.candidate.method),
         published_rmse=float("nan") if pub is None else pub.rmse,
         groups=groups,
+        baseline_rmse=float("nan") if fit.baseline is None else fit.baseline.rmse,
     )
     desc = descriptors(fit.wt_pct)
     residuals = residual_plot(
         chosen.heldout_mean - fit.measured,
         {name: desc[name] for name in RESIDUAL_DESCRIPTORS},
-        model_name=chosen.candidate.name, property_name=fit.property, unit=fit.unit,
-        groups=groups,
+        model_name=candidate_words(chosen.candidate.name, fit.property),
+        property_name=fit.property, unit=fit.unit, groups=groups,
     )
     return {"parity": parity, "residuals": residuals}

@@ -11,6 +11,7 @@ from pathlib import Path
 
 import pandas as pd
 
+from estimator.report.fit_plots import property_label
 from estimator.report.html import Section, bullet_list, figure_html, paragraph, table_html
 
 __all__ = [
@@ -26,13 +27,6 @@ __all__ = [
 #: The report folder of ``model.json`` is ``model_fit_report/`` beside it.
 REPORT_SUFFIX = "_fit_report"
 
-_KIND_TEXT = {
-    "published": "published method as is",
-    "recalibrated": "published method recalibrated, a + b x estimate",
-    "pls": "partial least squares, 2 components",
-    "ridge": "ridge regression, alpha by inner leave-one-out",
-    "gp": "Gaussian process, constant x RBF + noise",
-}
 
 
 def report_folder(model_path: str | Path) -> Path:
@@ -42,29 +36,48 @@ def report_folder(model_path: str | Path) -> Path:
 
 
 def summary_section(fits: Sequence, source: str = "") -> Section:
-    """One line per property: the choice and whether it beats the published methods."""
-    items = [f"{f.property}: {f.statement}" for f in fits]
+    """One line per property: the choice, its band, and whether it beats the references."""
+    from estimator.refit.crossval import BEAT_MARGIN
+
+    items = [f"{property_label(f.property)}: {f.statement}" for f in fits]
     intro = paragraph(
         f"Lab samples from {source or 'the lab file'}. Every score below is on held-out "
         "samples: each candidate was fitted without the samples it is scored on "
         "(leave-one-out below 30 samples, else 5-fold cross-validation repeated 10 times "
         "with a fixed seed). Residual = predicted - measured; bias is its mean."
     )
-    return Section("Summary", intro + bullet_list(items))
+    intro += paragraph(
+        "Two references stand beside the fitted models: the published methods as is, and "
+        "a mean-only baseline that predicts the mean of the training samples whatever the "
+        "composition (a model no better than it has learnt nothing from the composition). "
+        f"A model is said to beat a reference only when its CV RMSE is at least "
+        f"{100 * BEAT_MARGIN:.0f} % lower; otherwise the statement names the reference it "
+        "does not beat. The band of a chosen model, the ± that predict --model prints, is "
+        "one standard uncertainty of a new measurement, the same meaning as every other ± "
+        "of fame-estimator: its CV RMSE, or for a Gaussian process its own standard "
+        "deviation times a factor that makes it match the held-out residuals."
+    )
+    notes = sorted({note for f in fits for note in f.notes})
+    body = intro + bullet_list(items)
+    if notes:
+        body += paragraph("Note: " + " ".join(notes))
+    return Section("Summary", body)
 
 
 def _score_frame(fit) -> pd.DataFrame:
+    from estimator.refit.wording import KIND_WORDS, candidate_words
+
     table = fit.score_table()
     unit = "" if fit.unit == "1" else f" [{fit.unit}]"
     frame = pd.DataFrame({
-        "candidate": table["candidate"],
-        "what it is": table["kind"].map(_KIND_TEXT),
+        "candidate": [candidate_words(c, fit.property) for c in table["candidate"]],
+        "what it is": table["kind"].map(KIND_WORDS),
         "complexity rank": table["complexity"],
         f"CV RMSE{unit}": table["cv_rmse"],
         f"CV MAE{unit}": table["cv_mae"],
         f"CV bias{unit}": table["cv_bias"],
         "CV R²": table["cv_r2"],
-        "chosen": table["chosen"],
+        "chosen": table["chosen"].map({True: "chosen", False: ""}),
         "note": table["note"],
     })
     return frame if (frame["note"] != "").any() else frame.drop(columns="note")
@@ -72,7 +85,7 @@ def _score_frame(fit) -> pd.DataFrame:
 
 def property_section(fit, figures: Mapping | None = None) -> Section:
     """Scores of every candidate, the parity and residual plots, and the training domain."""
-    from estimator.report.fit_plots import fit_figures, property_label
+    from estimator.report.fit_plots import fit_figures
 
     figures = fit_figures(fit) if figures is None else figures
     dom = fit.model.domain
@@ -81,17 +94,21 @@ def property_section(fit, figures: Mapping | None = None) -> Section:
         f"{len(fit.measured)} measured samples, {fit.scheme.name} (seed {fit.scheme.seed}). "
         "Candidates are listed best CV RMSE first; candidates within the tie tolerance of "
         "the best go to the lowest complexity rank (published 0, recalibrated 1, PLS 2-3, "
-        "ridge 4-5, Gaussian process 6)."
+        "ridge 4-5, Gaussian process 6). The mean-only baseline (rank -1) is a yardstick, "
+        "never chosen."
     )
     body += table_html(_score_frame(fit), caption=f"{fit.property}: cross-validated scores")
     if fit.skipped:
         body += paragraph("Not evaluated: " + "; ".join(fit.skipped))
+    for note in fit.notes:
+        body += paragraph(f"Note: {note}")
     label = property_label(fit.property)
     body += figure_html(
         figures["parity"], alt=f"parity plot of {label}",
         caption="Measured against held-out predicted (mean over the repeats): the best "
-                "published method as is beside the chosen model. Dashed: 1:1; band: "
-                "± 1.96 x that model's CV RMSE.",
+                "published method as is beside the chosen model. Dashed: 1:1; shaded: ± one "
+                "standard uncertainty (that model's CV RMSE); dotted: the mean-only "
+                "baseline.",
     )
     body += figure_html(
         figures["residuals"], alt=f"residuals of {label} against descriptors",
@@ -111,9 +128,10 @@ def usage_section(model_file: str) -> Section:
     """How to use the model file."""
     return Section("Using the model file", paragraph(
         f"fame-estimator predict NEW_SAMPLES.csv --model {model_file} shows each fitted "
-        "property by its fitted model (method fit:<candidate>) with a 95 % prediction "
-        "interval as its error and an in-domain flag from the lab's training domain. The "
-        "model file is plain JSON with a checksum; it holds no code."
+        "property by its fitted model (method fit:<candidate>) with one standard "
+        "uncertainty from cross-validation as its error (±) and an in-domain flag from the "
+        "lab's training domain. The model file is plain JSON with a checksum; it holds no "
+        "code, and files beyond its stated size and range bounds are refused."
     ))
 
 

@@ -162,7 +162,8 @@ def test_a_known_linear_law_is_recovered_within_the_noise():
     fresh = compositions(300, seed=99)
     error = fit.model.predict(fresh).value - known_law(fresh)
     assert np.sqrt(np.mean(error ** 2)) < sigma  # the law itself, within the noise
-    assert "it beats the best published method" in fit.statement
+    assert "It beats the best published method" in fit.statement
+    assert " and the mean-only baseline (CV RMSE " in fit.statement
 
 
 def test_when_the_lab_follows_a_published_law_the_published_method_is_kept():
@@ -172,7 +173,13 @@ def test_when_the_lab_follows_a_published_law_the_published_method_is_kept():
     fit = fit_property(lab(w, cetane_number=y), "cetane_number")
     assert fit.chosen.candidate.name in ("published:bamgboye2008",
                                          "recalibrated:bamgboye2008")
-    assert fit.statement.startswith("No ")
+    if fit.model.kind == "published":
+        assert fit.statement.startswith("Kept as is: Bamgboye & Hansen 2008, CV RMSE ")
+        assert "No model fitted on these 24 samples beats this best published method" in \
+            fit.statement
+    else:  # a recalibration may come out lowest, but is not said to beat the published one
+        assert "but it does not beat the best published method, Bamgboye & Hansen 2008" in \
+            fit.statement
     assert fit.model.kind in ("published", "recalibrated")
     assert fit.model.method == "bamgboye2008"
 
@@ -188,8 +195,7 @@ def test_a_lab_offset_is_absorbed_by_recalibration():
     fit = fit_property(lab(w, cfpp_C=y), "cfpp_C")
     assert fit.chosen.candidate.name == "recalibrated:ramos2009"
     assert fit.model.params["slope"] == pytest.approx(0.8, abs=0.05)
-    assert fit.statement.startswith("Chosen: ramos2009 recalibrated to this lab "
-                                    "(a + b x estimate)")
+    assert fit.statement.startswith("Chosen: Ramos et al. 2009, recalibrated, CV RMSE ")
 
 
 def test_blank_measurements_leave_the_sample_out():
@@ -208,7 +214,8 @@ def test_score_table_lists_every_candidate_best_first_with_the_choice():
     table = fit.score_table()
     assert list(table["cv_rmse"]) == sorted(table["cv_rmse"])
     assert table["chosen"].sum() == 1
-    assert set(table["kind"]) == {"published", "ridge"}
+    assert set(table["kind"]) == {"mean", "published", "ridge"}  # the baseline is always there
+    assert not table.loc[table["kind"] == "mean", "chosen"].any()
 
 
 # ------------------------------------------------------------------ bad input
@@ -283,3 +290,72 @@ def test_an_implausible_measurement_is_refused_with_its_row():
         "column 'cetane_number': -999 is not a plausible measurement (0 to 120); "
         "check the value and its unit"
     )
+
+
+# ------------------------------------------------------------ honest statements
+def test_a_weak_refit_is_not_said_to_beat_the_mean_baseline():
+    # Synthetic: cetane = 52 + 0.03 (C16:0 - 20) + N(0, 2): the composition explains
+    # a few per cent of the variance, and no published method knows the lab's level. A
+    # refit may beat the published methods by far, but barely the mean: never "beats".
+    w = compositions(60, seed=31)
+    rng = np.random.default_rng(12)
+    y = 52.0 + 0.03 * (w[:, species_keys().index("C16:0")] - 20.0) + rng.normal(0, 2.0, 60)
+    fit = fit_property(lab(w, cetane_number=y), "cetane_number")
+    assert fit.chosen.r2 < 0.3
+    assert fit.chosen.rmse > 0.9 * fit.baseline.rmse
+    assert "It beats" not in fit.statement
+    assert "does not beat" in fit.statement and "the mean-only baseline (CV RMSE " in \
+        fit.statement
+    assert "by 10 %" in fit.statement and "'beats' means a CV RMSE at least 10 % lower" in \
+        fit.statement
+
+
+def test_the_baseline_is_the_fold_mean_scored_on_held_out_samples():
+    # Leave-one-out of the mean: the held-out prediction of sample i is the mean of the
+    # others, (sum - y_i) / (n - 1) (arithmetic, independent of the code).
+    w = compositions(12, seed=4)
+    y = np.arange(12, dtype=float) * 1.5 + 40.0
+    fit = fit_property(lab(w, cetane_number=y), "cetane_number", kinds=("published",))
+    expected = (y.sum() - y) / (len(y) - 1)
+    np.testing.assert_allclose(fit.baseline.predictions[0], expected, rtol=1e-12)
+    assert fit.baseline.candidate.name == "baseline:mean"
+
+
+@pytest.mark.parametrize("kinds", [("recalibrated",), ("gp",)], ids=["recalibrated", "gp"])
+def test_the_band_covers_about_two_thirds_of_new_measurements(kinds):
+    # Synthetic: y = known law + N(0, 0.8). The band is one standard uncertainty of a new
+    # measurement, so on fresh samples about 68 % of |prediction - measurement| lie within
+    # it (normal distribution: P(|z| <= 1) = 0.683).
+    sigma = 0.8
+    w = compositions(45, seed=41)
+    y = known_law(w) + np.random.default_rng(17).normal(0, sigma, 45)
+    fit = fit_property(lab(w, cetane_number=y), "cetane_number", kinds=kinds)
+    fresh = compositions(600, seed=77)
+    y_new = known_law(fresh) + np.random.default_rng(18).normal(0, sigma, 600)
+    pred = fit.model.predict(fresh)
+    inside = np.mean(np.abs(pred.value - y_new) <= pred.error)
+    assert 0.55 < inside < 0.85
+    if kinds == ("recalibrated",):
+        np.testing.assert_array_equal(pred.error, fit.chosen.rmse)  # the CV RMSE itself
+    else:
+        assert fit.model.gp_sd_scale == pytest.approx(fit.chosen.sd_scale)
+
+
+def test_a_nan_tie_tolerance_or_a_negative_seed_is_a_usage_error():
+    w = compositions(12, seed=0)
+    profile = lab(w, cetane_number=known_law(w))
+    with pytest.raises(UsageError, match="^tie tolerance nan: must be a number from 0 to 0.5"):
+        fit_property(profile, "cetane_number", tolerance=float("nan"))
+    with pytest.raises(UsageError, match="^seed -1: must be a whole number from 0 to"):
+        fit_property(profile, "cetane_number", seed=-1)
+
+
+def test_the_progress_callback_moves_once_per_fold_fit():
+    from estimator.refit.crossval import fit_properties, total_fits
+
+    w = compositions(14, seed=8)
+    profile = lab(w, cetane_number=known_law(w) + np.linspace(-1, 1, 14))
+    steps = []
+    fit_properties(profile, ["cetane_number"], progress=steps.append)
+    assert set(steps) == {1}
+    assert len(steps) == total_fits(profile, ["cetane_number"])

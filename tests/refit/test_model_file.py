@@ -105,7 +105,11 @@ def test_the_file_records_provenance_scores_and_domain(tmp_path, training_file):
     assert set(entry["params"]) == {"x_mean", "x_scale", "coef", "intercept", "alpha"}
     assert len(entry["domain"]["lower"]) == len(entry["domain"]["features"])
     assert entry["cv"]["scheme"]["name"] == "leave-one-out"
-    assert entry["cv"]["scores"][0]["candidate"] == entry["candidate"]
+    assert entry["cv"]["scores"][0]["candidate"] == "baseline:mean"  # the yardstick first
+    assert entry["candidate"] in [row["candidate"] for row in entry["cv"]["scores"]]
+    assert entry["band"]["sd"] == pytest.approx(
+        next(r["rmse"] for r in entry["cv"]["scores"] if r["candidate"] == entry["candidate"]))
+    assert entry["band"]["meaning"].startswith("standard uncertainty (one standard deviation)")
     contents = read_model_file(path)
     assert contents.training["rows"] == 16 and contents.package_version == estimator.__version__
 
@@ -130,10 +134,29 @@ def test_a_file_for_another_property_is_refused(tmp_path, training_file):
 
 def test_an_unknown_format_version_is_refused(tmp_path, training_file):
     path = write(tmp_path, [fitted("recalibrated")], training_file)
-    edit(path, lambda d: d.update(format_version=2))
+    edit(path, lambda d: d.update(format_version=3))
     assert refused(path) == (
-        f"model.json: format_version 2 is not supported (fame-estimator "
-        f"{estimator.__version__} reads version 1); refit with 'fame-estimator fit'"
+        f"model.json: format_version 3 is not supported (fame-estimator "
+        f"{estimator.__version__} reads version 2); refit with 'fame-estimator fit'"
+    )
+
+
+def test_a_version_1_file_with_95_percent_intervals_is_refused(tmp_path, training_file):
+    # version 1 stored 95 % half-widths under "interval"; an edited one with level 5 is
+    # refused too (by its version, before any number is read)
+    path = write(tmp_path, [fitted("recalibrated")], training_file)
+
+    def old_style(doc):
+        doc["format_version"] = 1
+        model = doc["models"][0]
+        model["interval"] = {"level": 5, "source": "1.96 x CV RMSE", "half_width": 1.0}
+        del model["band"]
+
+    edit(path, old_style)
+    assert refused(path) == (
+        f"model.json: format_version 1 stored 95 % intervals; fame-estimator "
+        f"{estimator.__version__} prints one standard uncertainty and reads version 2; "
+        "refit with 'fame-estimator fit'"
     )
 
 
@@ -247,3 +270,105 @@ def test_the_writer_refuses_two_models_for_one_property(tmp_path, training_file)
     model = fitted("recalibrated")
     with pytest.raises(ModelFileError, match="two models for cetane_number"):
         write(tmp_path, [model, model], training_file)
+
+
+# ------------------------------------------------------- bounds and range checks
+# Every edit below recomputes the checksum, so the refusal comes from the range or size
+# check, not from the checksum.
+@pytest.mark.parametrize("kind, change, message", [
+    ("recalibrated", lambda m: m["params"].update(intercept=-1e308),
+     "models[0].params.intercept must be a number within ±1e+12, got -1e+308"),
+    ("recalibrated", lambda m: m["params"].update(intercept=-5e5),
+     "models[0].params.intercept with the slope gives -5e+05 for an estimate of 60, "
+     "outside -120 to 240 (plausible cetane_number 0 to 120, widened by its span)"),
+    ("recalibrated", lambda m: m["params"].update(slope=40.0),
+     "models[0].params.slope must lie between -10 and 10, got 40"),
+    ("ridge", lambda m: m["params"].update(intercept=1e4),
+     "models[0].params.intercept gives 1e+04 at the training mean, outside -120 to 240 "
+     "(plausible cetane_number 0 to 120, widened by its span)"),
+    ("ridge", lambda m: m["params"].update(alpha=-1.0),
+     "models[0].params.alpha must lie between 1e-12 and 1e+06, got -1"),
+    ("gp", lambda m: m["params"].update(length_scale=1e9),
+     "models[0].params.length_scale must lie between 1e-12 and 10000, got 1e+09"),
+    ("recalibrated", lambda m: m["band"].update(sd=5000.0),
+     "models[0].band.sd must lie between 1.2e-10 and 120, got 5000"),
+    ("recalibrated", lambda m: m["band"].update(gp_sd_scale=5.0),
+     "models[0].band.gp_sd_scale must lie between 1 and 1, got 5"),
+    ("gp", lambda m: m["band"].update(gp_sd_scale=5e3),
+     "models[0].band.gp_sd_scale must lie between 0.05 and 100, got 5000"),
+    ("recalibrated", lambda m: m["domain"]["lower"].__setitem__(0, 150.0),
+     "models[0].domain.lower must hold numbers within ±100 only"),
+    ("recalibrated", lambda m: m["domain"]["lower"].__setitem__(2, 99.0),
+     "models[0].domain.lower must not exceed domain.upper"),
+    ("recalibrated", lambda m: m["cv"].update(tie_tolerance=3.0),
+     "models[0].cv.tie_tolerance must lie between 0 and 0.5, got 3"),
+    ("recalibrated", lambda m: m.update(n_samples=10**40),
+     "models[0].n_samples must be at most 10000000, got 1000000000... (41 digits)"),
+], ids=["intercept-1e308", "intercept-off-scale", "slope", "ridge-intercept", "alpha",
+        "length-scale", "band-sd", "scale-on-a-linear-model", "gp-scale", "domain-range",
+        "domain-order", "tie-tolerance", "huge-count"])
+def test_absurd_numbers_are_refused_by_range_checks(tmp_path, training_file, kind, change,
+                                                    message):
+    path = write(tmp_path, [fitted(kind)], training_file)
+    edit(path, lambda d: change(d["models"][0]))
+    assert refused(path) == f"model.json: {message}; {REFIT}"
+
+
+def test_a_gaussian_process_with_too_many_training_rows_is_refused(tmp_path, training_file):
+    from estimator.refit.limits import MAX_GP_TRAINING_ROWS
+
+    path = write(tmp_path, [fitted("gp")], training_file)
+
+    def grow(doc):
+        params = doc["models"][0]["params"]
+        rows = params["x_train"]
+        params["x_train"] = (rows * (MAX_GP_TRAINING_ROWS // len(rows) + 1))
+        params["y_train"] = params["y_train"] * (MAX_GP_TRAINING_ROWS // len(rows) + 1)
+
+    edit(path, grow)
+    n = len(json.loads(path.read_text(encoding="utf-8"))["models"][0]["params"]["x_train"])
+    assert refused(path) == (f"model.json: models[0].params.x_train holds {n} rows, at most "
+                             f"{MAX_GP_TRAINING_ROWS} allowed; {REFIT}")
+
+
+def test_too_many_features_are_refused(tmp_path, training_file):
+    path = write(tmp_path, [fitted("ridge")], training_file)
+    edit(path, lambda d: d["models"][0].update(features=["C16:0"] * 65))
+    assert refused(path) == ("model.json: models[0].features holds 65 entries, at most 64 "
+                             f"allowed; {REFIT}")
+
+
+def test_what_fit_writes_stays_within_what_the_reader_accepts():
+    # regression test: the writer's caps against the reader's bounds
+    from estimator.refit import limits
+    from estimator.refit.candidates import GP_MAX_TRAIN
+    from estimator.refit.features import FEATURE_SETS, MAX_DOMAIN_POINTS
+
+    assert GP_MAX_TRAIN <= limits.MAX_GP_TRAINING_ROWS
+    assert MAX_DOMAIN_POINTS <= limits.MAX_DOMAIN_ROWS
+    assert max(len(f) for f in FEATURE_SETS.values()) <= limits.MAX_FEATURES
+
+
+@pytest.mark.parametrize("text, message", [
+    ("[" * 100_000 + "]" * 100_000,
+     "model.json: nested deeper than a model file ever is; not a model file"),
+    ('{"format": "fame-estimator model", "format_version": ' + "9" * 5000 + "}",
+     "model.json: holds a number too long to be a model-file number; not a model file"),
+], ids=["deep-nesting", "huge-integer"])
+def test_hostile_json_gets_one_line(tmp_path, text, message):
+    path = tmp_path / "model.json"
+    path.write_text(text, encoding="utf-8")
+    assert refused(path) == message
+
+
+def test_a_gp_model_file_predicts_in_bounded_blocks(tmp_path, training_file, monkeypatch):
+    # the block size changes memory, not the numbers (regression test)
+    from estimator.refit import candidates
+
+    model = fitted("gp")
+    new = Profile.from_oils(["rapeseed", "soybean", "palm", "sunflower", "coconut"]).wt_pct
+    whole = model.predict(new)
+    monkeypatch.setattr(candidates, "GP_BLOCK_ENTRIES", 1)
+    blocked = model.predict(new)
+    np.testing.assert_allclose(blocked.value, whole.value, rtol=1e-12)
+    np.testing.assert_allclose(blocked.error, whole.error, rtol=1e-12)
