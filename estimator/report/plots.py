@@ -33,6 +33,7 @@ __all__ = [
     "composition_bars",
     "cost_per_tonne",
     "figure_png_base64",
+    "plain_text",
     "pretty_unit",
     "property_by_lot",
     "save_figure",
@@ -102,6 +103,8 @@ _STYLE = {
     "grid.linewidth": 0.6,
     "svg.fonttype": "none",
     "hatch.linewidth": 0.8,
+    # lot and sample names are data: never parse them as math markup ($...$)
+    "text.parse_math": False,
 }
 
 
@@ -479,6 +482,20 @@ def cost_per_tonne(
     return fig
 
 
+def plain_text(fig) -> None:
+    """Make every text of ``fig`` plain: no math markup is parsed in names or labels.
+
+    A lot named ``$\\frac{$`` would otherwise be read as (broken) mathtext and stop
+    the drawing. The figures use no math markup of their own (units are written with
+    Unicode super- and subscripts); tick labels made while drawing are covered by the
+    ``text.parse_math`` setting the save functions draw under.
+    """
+    from matplotlib.text import Text
+
+    for text in fig.findobj(Text):
+        text.set_parse_math(False)
+
+
 def save_figure(fig, stem: str | Path, *, dpi: int = 150) -> list[Path]:
     """Write ``stem.png`` and ``stem.svg`` atomically; return both paths."""
     import matplotlib
@@ -486,12 +503,13 @@ def save_figure(fig, stem: str | Path, *, dpi: int = 150) -> list[Path]:
     from estimator.report.tables import atomic_write
 
     stem = Path(stem)
+    plain_text(fig)
     paths = []
     for fmt in ("png", "svg"):
         path = stem.with_suffix(f".{fmt}")
 
         def write(tmp: Path, fmt: str = fmt) -> None:
-            with matplotlib.rc_context({"svg.fonttype": "none"}):
+            with matplotlib.rc_context({"svg.fonttype": "none", "text.parse_math": False}):
                 fig.savefig(tmp, format=fmt, dpi=dpi, metadata=_metadata(fmt))
 
         paths.append(atomic_write(path, write))
@@ -505,8 +523,12 @@ def _metadata(fmt: str) -> dict:
 
 def figure_png_base64(fig, *, dpi: int = 110) -> str:
     """The figure as a base64-encoded PNG, for embedding in an HTML report."""
+    import matplotlib
+
     buffer = io.BytesIO()
-    fig.savefig(buffer, format="png", dpi=dpi)
+    plain_text(fig)
+    with matplotlib.rc_context({"text.parse_math": False}):
+        fig.savefig(buffer, format="png", dpi=dpi)
     return base64.b64encode(buffer.getvalue()).decode("ascii")
 
 
