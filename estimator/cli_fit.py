@@ -36,8 +36,9 @@ __all__ = ["fit"]
 @click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=0, show_default=True,
               help="Seed of the repeated k-fold shuffles and the Gaussian-process optimizer.")
 @click.option("--tie-tolerance", type=click.FloatRange(0, 50), default=2.0, show_default=True,
-              metavar="PCT", callback=finite, help="Candidates within PCT % of the best CV RMSE tie; a tie goes "
-                                  "to the simpler model.")
+              metavar="PCT", callback=finite,
+              help="Candidates within PCT % of the best CV RMSE tie; a tie goes to the simpler "
+                   "model.")
 @click.option("--no-report", is_flag=True,
               help="With -o: write only the model file, no report folder.")
 @click.option("-o", "--output", metavar="FILE.json",

@@ -155,8 +155,12 @@ def lot_inputs(profile) -> pd.DataFrame:
         bad = problem != None  # noqa: E711 (element-wise on an object array)
         if bad.any():
             i = int(np.argmax(bad))
-            what = "is not a finite number" if problem[i] == "not finite" else "is not a number"
-            shown = repr(raw.iloc[i]) if isinstance(raw.iloc[i], str) else str(raw.iloc[i])
+            cell = raw.iloc[i]
+            if problem[i] == "not finite":
+                shown, what = f"'{str(cell).strip()}'", "is not a finite number"
+            else:
+                shown = repr(cell) if isinstance(cell, str) else str(cell)
+                what = "is not a number"
             raise ProfileError(
                 f"{source}row {rows[i]}, column {col!r} (sample {profile.samples[i]!r}): "
                 f"{shown[:40]} {what}"

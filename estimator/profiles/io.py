@@ -204,10 +204,10 @@ def _decode_error(path: Path, encoding: str) -> InputFileError:
         row = data.count(b"\n", 0, exc.start) + 1
         byte = data[exc.start]
         return InputFileError(
-            f"{path.name}: row {row}: byte 0x{byte:02x} is not {encoding.upper()} text; save "
-            "the file as UTF-8 (e.g. 'CSV UTF-8')"
+            f"{path.name}: row {row}: byte 0x{byte:02x} is not {_shown_encoding(encoding)} "
+            "text; save the file as UTF-8 (e.g. 'CSV UTF-8')"
         )
-    return InputFileError(f"{path.name}: not readable as {encoding.upper()} text")
+    return InputFileError(f"{path.name}: not readable as {_shown_encoding(encoding)} text")
 
 
 def _split(line: str, sep: str) -> list[str]:
@@ -613,3 +613,7 @@ def _maybe_numeric(column: pd.Series) -> pd.Series:
     if not refused.any() and not np.isnan(values).all():
         return pd.Series(values, index=column.index, name=column.name)
     return column
+
+
+def _shown_encoding(encoding: str) -> str:
+    return {"utf-8-sig": "UTF-8", "utf-8": "UTF-8", "utf-16": "UTF-16"}.get(encoding, encoding)

@@ -284,6 +284,14 @@ _CROP_WORDS = {
 }
 
 
+#: Crops with no built-in profile: a name mentioning one gets no suggestion (a near
+#: spelling such as grapeseed / rapeseed is another crop, not a typo).
+_OTHER_CROPS = ("grape", "mustard", "hemp", "rice", "tung", "castor", "alga", "karanja",
+                "pongamia", "neem", "rubber", "sesame", "walnut", "almond", "avocado",
+                "babassu", "tobacco", "fish", "moringa", "crambe", "carinata", "pennycress",
+                "cashew", "macadamia", "shea", "cocoa", "mahua", "yellowhorn")
+
+
 def resolve_oil(name: str) -> str:
     """The built-in oil a typed name means (its own name or an alias such as ``canola``).
 
@@ -320,6 +328,8 @@ def _oil_hint(name: str, oils: list[str]) -> str:
     tokens = re.findall(r"[a-z]+", name.lower())
     crops = {crop for word, crop in _CROP_WORDS.items()
              if any(t.startswith(word) or t.endswith(word) for t in tokens)}
+    if any(t.startswith(c) or t.endswith(c) for t in tokens for c in _OTHER_CROPS):
+        return ""
     if crops:
         family = {c.split("-")[0] for c in crops}
         close = [o for o in oils if o in crops or o.split("-")[0] in family]

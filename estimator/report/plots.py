@@ -37,6 +37,7 @@ __all__ = [
     "pretty_unit",
     "property_by_lot",
     "save_figure",
+    "save_png",
 ]
 
 #: Paul Tol's "muted" qualitative scheme (colour-blind safe), then his pale grey.
@@ -516,6 +517,21 @@ def save_figure(fig, stem: str | Path, *, dpi: int = 150) -> list[Path]:
     return paths
 
 
+def save_png(fig, path: str | Path, *, dpi: int = 150) -> Path:
+    """Write one PNG atomically, names and labels as plain text; return the path."""
+    import matplotlib
+
+    from estimator.report.tables import atomic_write
+
+    plain_text(fig)
+
+    def write(tmp: Path) -> None:
+        with matplotlib.rc_context({"text.parse_math": False}):
+            fig.savefig(tmp, format="png", dpi=dpi)
+
+    return atomic_write(path, write)
+
+
 def _metadata(fmt: str) -> dict:
     # No timestamps, so the same data give the same files.
     return {"Date": None} if fmt == "svg" else {}
@@ -597,7 +613,9 @@ def comparison_figures(comparison) -> list[Plot]:
     and the cost per tonne of fuel.
     """
     from estimator.comparison import SPEC_LABELS
+    from estimator.report.subset import subset_comparison
 
+    comparison, shown_note = subset_comparison(comparison)  # many lots: a readable subset
     ranked = comparison.ranked
     lots = list(ranked["sample"])
     lim = comparison.limits
@@ -666,4 +684,6 @@ def comparison_figures(comparison) -> list[Plot]:
         "Feedstock cost per tonne of fuel: price per tonne of oil divided by the theoretical "
         "fuel yield. Lots in ranked order.",
     ))
+    if shown_note:
+        plots = [Plot(p.name, p.figure, f"{p.caption} {shown_note}") for p in plots]
     return plots
