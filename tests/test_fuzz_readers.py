@@ -30,6 +30,9 @@ LOTS = ("lot,price_per_t,ffa_wt_pct,water_wt_pct,available_t,C16:0,C18:0,C18:1,C
 PROFILE_JSON = json.dumps([{"sample": "A", "composition": {"C16:0": 10, "C18:1": 70,
                                                            "C18:2": 20}}])
 DIESEL = (DEMO / "diesel_winter.json").read_text(encoding="utf-8")
+PEAKS = "".join((ROOT / "data" / "examples" / "peaks_runs.csv").read_text(
+    encoding="utf-8").splitlines(keepends=True)[:12])
+REFERENCE = str(ROOT / "data" / "examples" / "peaks_reference.csv")
 SCENARIO = json.dumps({"title": "t", "lots": {"file": "lots.csv", "specs": ["en14214"]},
                        "mix": {"spec": "en14214", "max_cfpp_C": -5}})
 
@@ -45,6 +48,7 @@ READERS = {
     "mix lots": (["mix"], "lots.csv", LOTS, []),
     "blend diesel": (["blend", "--oil", "rapeseed", "--diesel"], "diesel.json", DIESEL, []),
     "report scenario": (["report"], "scenario.json", SCENARIO, ["-o", "OUT"]),
+    "peaks runs": (["peaks", "--reference", REFERENCE], "runs.csv", PEAKS, []),
 }
 
 

@@ -50,7 +50,7 @@ from estimator.profiles.names import OTHER, canonical_species, is_species_like
 from estimator.profiles.profile import DEFAULT_SUM_TOLERANCE, Profile
 
 __all__ = ["MAX_INPUT_MB", "RawTable", "input_size_limit_mb", "parse_numbers", "read_profile",
-           "read_table"]
+           "read_raw_table", "read_table"]
 
 SAMPLE_COLUMNS = ("sample", "sample_id", "sample id", "id", "lot", "lot_id", "lot id", "name")
 LONG_SPECIES = ("species", "component", "compound", "fatty_acid", "fatty acid", "fame", "peak")
@@ -115,7 +115,7 @@ def read_profile(
     """
     path = Path(path)
     label = path.name
-    table, rows, note = read_table(path)
+    table, rows, note = read_raw_table(path)
     table.columns = [str(c).strip() for c in table.columns]
     _check_unique_headers(table, label)
     lowered = {c.lower(): c for c in table.columns}
@@ -141,8 +141,19 @@ def input_size_limit_mb(kind: str) -> float:
     return MAX_INPUT_MB[kind]
 
 
-def read_table(path: Path) -> RawTable:
-    """Read a file into a frame of raw cells, the file row of each record, and a note."""
+def read_table(path: Path) -> tuple[pd.DataFrame, int]:
+    """Read a file into a frame of raw cells (header on the first row); also return the file
+    row of the first record. Other tables than profiles (e.g. GC peak tables) use this."""
+    raw = read_raw_table(path, find_header=False)
+    return raw.frame, int(raw.rows[0]) if len(raw.rows) else 2
+
+
+def read_raw_table(path: Path, *, find_header: bool = True) -> RawTable:
+    """Read a file into a frame of raw cells, the file row of each record, and a note.
+
+    With ``find_header`` the header is the first row with species columns (title lines
+    and notes above it are skipped, and the note says so); else the first row.
+    """
     path = Path(path)
     label = path.name
     if not path.exists():
@@ -171,9 +182,9 @@ def read_table(path: Path) -> RawTable:
             f"for a {kind} file; split the file, or raise the limit with {MAX_INPUT_ENV}"
         )
     if kind == "text":
-        return _read_text(path)
+        return _read_text(path, find_header)
     if kind == "excel":
-        return _read_excel(path)
+        return _read_excel(path, find_header)
     frame = _read_json(path)
     return RawTable(frame, np.arange(1, len(frame) + 1))
 
@@ -227,12 +238,8 @@ def _header_score(cells: list) -> int:
 
 
 def _find_header(scores: list[int]) -> int:
-    """Index of the first row with two or more species-like cells (else one; else 0)."""
-    for need in (2, 1):
-        for i, score in enumerate(scores):
-            if score >= need:
-                return i
-    return 0
+    """Index of the first row with two or more species-like cells (else 0)."""
+    return next((i for i, score in enumerate(scores) if score >= 2), 0)
 
 
 def _header_note(label: str, header_index: int) -> str:
@@ -243,7 +250,7 @@ def _header_note(label: str, header_index: int) -> str:
             f"{above} above it read as titles or notes and skipped")
 
 
-def _read_text(path: Path) -> RawTable:
+def _read_text(path: Path, find_header: bool = True) -> RawTable:
     label = path.name
     with path.open("rb") as fh:
         head_bytes = fh.read(_HEAD_BYTES)
@@ -263,7 +270,7 @@ def _read_text(path: Path) -> RawTable:
     for line in lines:
         scored = [(_header_score(_split(line, s)), line.count(s), s) for s in seps]
         best.append(max(scored))
-    header_index = _find_header([score for score, _, _ in best])
+    header_index = _find_header([score for score, _, _ in best]) if find_header else 0
     header = lines[header_index]
     if not header.strip():
         raise InputFileError(f"{label}: the first line (header) is empty")
@@ -297,7 +304,7 @@ def _uses_decimal_comma(lines: list[str], sep: str) -> bool:
 
 
 # ---------------------------------------------------------------- workbooks
-def _read_excel(path: Path) -> RawTable:
+def _read_excel(path: Path, find_header: bool = True) -> RawTable:
     """The first sheet's cells as they are (numbers, text, booleans), with their rows."""
     label = path.name
     try:
@@ -318,7 +325,8 @@ def _read_excel(path: Path) -> RawTable:
         raise InputFileError(f"{label}: the first sheet has no data rows")
     width = max(len(r) for r in cells)
     cells = [r + [None] * (width - len(r)) for r in cells]
-    header_index = _find_header([_header_score(r) for r in cells[:HEADER_SEARCH_ROWS]])
+    header_index = (_find_header([_header_score(r) for r in cells[:HEADER_SEARCH_ROWS]])
+                    if find_header else 0)
     header = cells[header_index]
     names = []
     for j, h in enumerate(header):
