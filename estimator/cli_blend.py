@@ -94,9 +94,9 @@ def _check_side_files(plot: str | None, report_path: str | None) -> None:
 
 
 def _save_png(fig, path: str) -> None:
-    from estimator.files import atomic_write
+    from estimator.report.plots import save_png
 
-    written = atomic_write(path, lambda tmp: fig.savefig(tmp, format="png", dpi=150))
+    written = save_png(fig, path)
     click.echo(f"wrote {written}", err=True)
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from estimator.cliutil import CONTEXT, ReportingCommand
+from estimator.cliutil import CONTEXT, ReportingCommand, show_file_notes
 
 __all__ = ["report"]
 
@@ -13,12 +13,15 @@ __all__ = ["report"]
 @click.argument("scenario_file", type=click.Path(dir_okay=False))
 @click.option("-o", "--output", "outdir", required=True, metavar="DIR",
               help="Folder for the tables, plots, model file and report.html.")
-def report(scenario_file, outdir) -> None:
+@click.option("--allow-outside", is_flag=True,
+              help="Let the scenario read files outside its own folder (refused by default).")
+def report(scenario_file, outdir, allow_outside) -> None:
     """Run a planning scenario (lots, diesel, targets, lab data) and write one report.
 
     SCENARIO_FILE is a JSON file naming the lots file and, optionally, a diesel with
     blend targets, a least-cost mix to find, and lab samples to refit on (see the
-    README and data/demo/scenario.json). Paths in it are relative to the file.
+    README and data/demo/scenario.json). Paths in it are relative to the file and
+    must lie in its folder unless --allow-outside is given.
 
     \b
     Examples:
@@ -30,9 +33,10 @@ def report(scenario_file, outdir) -> None:
     from estimator.report.tables import format_table
     from estimator.scenario import read_scenario, run_scenario
 
-    scenario = read_scenario(scenario_file)
+    scenario = read_scenario(scenario_file, allow_outside=allow_outside)
     protect_inputs(scenario.input_files())
     result = run_scenario(scenario, progress=lambda text: click.echo(f"... {text}", err=True))
+    show_file_notes(result.profile)
     written = write_scenario(result, outdir)
     ranked = result.comparison.ranked
     cols = [c for c in ("rank", "sample", "overall", "cost_per_t_fuel") if c in ranked.columns]

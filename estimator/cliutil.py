@@ -19,19 +19,31 @@ def invoke_reporting(ctx: click.Context, invoke):
     is an internal error, reported in one line too unless ``FAME_ESTIMATOR_DEBUG``
     is set.
     """
+    import warnings
+
     from estimator.errors import EstimatorError
     from estimator.files import guard_inputs
 
     try:
-        with guard_inputs(_input_paths(ctx)):
+        with guard_inputs(_input_paths(ctx)), warnings.catch_warnings():
+            # numpy, pandas and openpyxl warnings are for developers: the terminal shows
+            # results and one-line errors only
+            warnings.simplefilter("ignore")
             _refuse_overwriting_inputs(ctx)
             return invoke()
     except BrokenPipeError:
         # the reader went away (e.g. piped into head): stop quietly
         sys.stderr.close()
         ctx.exit(0)
+    except RecursionError:
+        click.echo("fame-estimator: error: input nested too deeply to read", err=True)
+        ctx.exit(1)
+    except MemoryError:
+        click.echo("fame-estimator: error: not enough memory for this input; split it into "
+                   "smaller files", err=True)
+        ctx.exit(1)
     except EstimatorError as exc:
-        click.echo(f"fame-estimator: error: {exc}", err=True)
+        click.echo(f"fame-estimator: error: {one_line(str(exc))}", err=True)
         ctx.exit(exc.exit_code)
     except OSError as exc:
         name = Path(exc.filename).name if getattr(exc, "filename", None) else ""
@@ -49,6 +61,11 @@ def invoke_reporting(ctx: click.Context, invoke):
             err=True,
         )
         ctx.exit(1)
+
+
+def one_line(text: str) -> str:
+    """A message on one line: line breaks (e.g. from a cell's text) become spaces."""
+    return " ".join(text.replace("\r", "\n").split("\n")).strip()
 
 
 #: Parameters that name files a command writes; all other path-like values are inputs.
@@ -91,10 +108,33 @@ class ReportingGroup(click.Group):
         return invoke_reporting(ctx, lambda: super(ReportingGroup, self).invoke(ctx))
 
 
+def finite(ctx: click.Context, param, value):
+    """A click callback refusing NaN and infinite numbers (click's ranges let NaN through)."""
+    import math
+
+    if value is not None and not math.isfinite(value):
+        raise click.BadParameter(f"{value} is not a finite number")
+    return value
+
+
+def _remember_fractions(ctx: click.Context, param, value: bool) -> bool:
+    ctx.meta["fame_estimator.fractions"] = bool(value)
+    return value
+
+
 def input_options(func):
-    """Add --basis and --sum-tolerance to a command."""
+    """Add --basis, --sum-tolerance and --fractions to a command.
+
+    ``--fractions`` is not passed to the command function; :func:`load_inputs` reads it
+    from the click context.
+    """
     func = click.option(
-        "--sum-tolerance", type=float, default=2.0, show_default=True, metavar="POINTS",
+        "--fractions", is_flag=True, expose_value=False, callback=_remember_fractions,
+        help="The profile numbers are mass fractions (summing to 1), not mass %.",
+    )(func)
+    func = click.option(
+        "--sum-tolerance", type=click.FloatRange(0, 100), default=2.0, show_default=True,
+        metavar="POINTS", callback=finite,
         help="Renormalise sums within this many points of 100; refuse beyond.",
     )(func)
     func = click.option(
@@ -102,6 +142,18 @@ def input_options(func):
         show_default=True, help="What the profile numbers are mass % of.",
     )(func)
     return func
+
+
+def fractions_requested() -> bool:
+    """True when the running command was given ``--fractions``."""
+    ctx = click.get_current_context(silent=True)
+    return bool(ctx.meta.get("fame_estimator.fractions")) if ctx is not None else False
+
+
+def show_file_notes(profile) -> None:
+    """Echo the notes about the files read (e.g. the header row found) to stderr."""
+    for note in profile.file_notes:
+        click.echo(f"note: {note}", err=True)
 
 
 def peak_options(func):
@@ -142,7 +194,9 @@ def load_inputs(
     if reference is None:
         if sample_sheet is not None:
             raise UsageError("--samples needs --reference (it belongs to GC peak tables)")
-        parts = [read_profile(p, basis=basis, sum_tolerance=sum_tolerance) for p in inputs]
+        fractions = fractions_requested()
+        parts = [read_profile(p, basis=basis, sum_tolerance=sum_tolerance,
+                              fractions=fractions) for p in inputs]
     elif not inputs:
         raise UsageError("--reference needs at least one INPUT peak table")
     elif basis != "fame":
@@ -154,6 +208,8 @@ def load_inputs(
                             internal_standard=internal_standard).profile]
     if oils:
         parts.append(Profile.from_oils(oils))
+    for part in parts:
+        show_file_notes(part)
     return Profile.concat(parts)
 
 

@@ -20,12 +20,19 @@ file are relative to the file. Keys (all but ``lots`` optional)::
                 "seed": 0}
     }
 
+Every key has a type (text, number, list of text, ...) checked when the file is read;
+``null`` is the same as leaving a key out. Files named in the scenario must lie in
+the scenario's folder (or below it): absolute paths and ``..`` leading out of it are
+refused unless the caller allows it (``report --allow-outside``), so a scenario
+received from someone else reads nothing else on the machine.
+
 Nothing here prints or draws; :mod:`estimator.report.scenario_report` writes the files.
 """
 
 from __future__ import annotations
 
 import json
+import math
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -35,14 +42,27 @@ from estimator.errors import InputFileError, UsageError
 
 __all__ = ["Scenario", "ScenarioResult", "read_scenario", "run_scenario"]
 
-_KEYS = {
-    "": {"title", "lots", "blend", "mix", "lab"},
-    "lots": {"file", "basis", "specs", "climate_class", "pretreat", "methanol_ratio",
-             "sum_tolerance"},
-    "blend": {"diesel", "levels", "climate_class", "max_cfpp_C", "max_cloud_point_C", "specs"},
-    "mix": {"spec", "climate_class", "max_cfpp_C", "max_cloud_point_C", "demand_t",
-            "available_column", "pretreat"},
-    "lab": {"file", "properties", "seed", "basis"},
+#: The type of every key, per part: text, number, count (an integer >= 0), texts (a
+#: list of text, or one text), levels (a list of numbers or '0,2,5'), class (a climate
+#: class as text or a number 0-4), flag (true/false).
+_TYPES = {
+    "": {"title": "text", "lots": "part", "blend": "part", "mix": "part", "lab": "part"},
+    "lots": {"file": "text", "basis": "text", "specs": "texts", "climate_class": "class",
+             "pretreat": "text", "methanol_ratio": "number", "sum_tolerance": "number",
+             "fractions": "flag"},
+    "blend": {"diesel": "text", "levels": "levels", "climate_class": "class",
+              "max_cfpp_C": "number", "max_cloud_point_C": "number", "specs": "texts"},
+    "mix": {"spec": "text", "climate_class": "class", "max_cfpp_C": "number",
+            "max_cloud_point_C": "number", "demand_t": "number", "available_column": "text",
+            "pretreat": "text"},
+    "lab": {"file": "text", "properties": "texts", "seed": "count", "basis": "text",
+            "fractions": "flag"},
+}
+_KEYS = {part: set(types) for part, types in _TYPES.items()}
+_WHAT = {
+    "text": "a text", "number": "a finite number", "count": "a whole number from 0 to 4294967295",
+    "texts": "a list of texts", "levels": "a list of numbers (or a text such as '0,5,20')",
+    "class": "a climate class (e.g. 'C' or 2)", "flag": "true or false",
 }
 
 
@@ -56,11 +76,30 @@ class Scenario:
     blend: dict[str, Any] | None = None
     mix: dict[str, Any] | None = None
     lab: dict[str, Any] | None = None
+    allow_outside: bool = False
 
-    def resolve(self, name: str) -> Path:
-        """A path named in the scenario, relative to the scenario file."""
+    def resolve(self, name: str, key: str = "file") -> Path:
+        """A path named in the scenario, relative to the scenario file.
+
+        Raises
+        ------
+        InputFileError
+            The path is absolute or leads out of the scenario's folder (through ``..``
+            or a link) and ``allow_outside`` is false.
+        """
         p = Path(name)
-        return p if p.is_absolute() else self.path.parent / p
+        path = p if p.is_absolute() else self.path.parent / p
+        if self.allow_outside:
+            return path
+        folder = self.path.parent.resolve()
+        inside = not p.is_absolute() and path.resolve().is_relative_to(folder)
+        if not inside:
+            raise InputFileError(
+                f"{self.path.name}: {key} {name!r} lies outside the scenario's folder; a "
+                "scenario reads only files beside it or below it (the report command's "
+                "--allow-outside lifts this)"
+            )
+        return path
 
     def input_files(self) -> list[Path]:
         """The scenario file and every file it names (lots, diesel, lab), resolved."""
@@ -83,21 +122,46 @@ class ScenarioResult:
     models: list = field(default_factory=list)
 
 
-def read_scenario(path: str | Path) -> Scenario:
-    """Read and validate a scenario JSON file; unknown keys are an error listing known ones."""
+def read_scenario(path: str | Path, *, allow_outside: bool = False) -> Scenario:
+    """Read and validate a scenario JSON file; unknown keys are an error listing known ones.
+
+    Parameters
+    ----------
+    path : str or Path
+        The scenario file.
+    allow_outside : bool
+        Let the scenario name files outside its own folder.
+
+    Raises
+    ------
+    InputFileError
+        Not JSON, a key of the wrong type (naming the key), or a missing part.
+    UsageError
+        An unknown key.
+    """
     path = Path(path)
     label = path.name
     if not path.exists():
         raise InputFileError(f"{label}: no such file")
+    if path.is_dir():
+        raise InputFileError(f"{label}: is a folder, not a scenario file")
+    if path.stat().st_size > 10e6:
+        raise InputFileError(f"{label}: more than 10 MB: not a scenario file")
     try:
-        data = json.loads(path.read_text(encoding="utf-8"))
+        data = json.loads(path.read_bytes().decode("utf-8-sig"),
+                          parse_int=lambda t: int(t) if len(t) <= 18 else float(t),
+                          parse_constant=lambda name: name)
     except (UnicodeDecodeError, json.JSONDecodeError) as exc:
         raise InputFileError(f"{label}: not valid JSON ({exc})") from None
+    except RecursionError:
+        raise InputFileError(f"{label}: JSON nested too deeply to be a scenario") from None
     if not isinstance(data, dict):
         raise InputFileError(f"{label}: expected a JSON object with 'lots', 'blend', 'mix', 'lab'")
     _check_keys(data, "", label)
     if "lots" not in data or not isinstance(data["lots"], dict) or "file" not in data["lots"]:
         raise InputFileError(f"{label}: 'lots' must be an object with at least a 'file'")
+    if data.get("title") is not None:
+        _check_type(data["title"], "text", "title", label)
     parts = {}
     for part in ("lots", "blend", "mix", "lab"):
         value = data.get(part)
@@ -107,13 +171,53 @@ def read_scenario(path: str | Path) -> Scenario:
         if not isinstance(value, dict):
             raise InputFileError(f"{label}: '{part}' must be a JSON object")
         _check_keys(value, part, label)
-        parts[part] = value
+        parts[part] = {key: _check_type(v, _TYPES[part][key], f"{part}.{key}", label)
+                       for key, v in value.items() if v is not None}
+    for part, key in (("lots", "file"), ("lab", "file")):
+        if parts[part] is not None and key in parts[part]:
+            Scenario(path, "", {}, allow_outside=allow_outside).resolve(
+                parts[part][key], f"'{part}.{key}'")
     if parts["blend"] is not None and "diesel" not in parts["blend"]:
         raise InputFileError(f"{label}: 'blend' needs a 'diesel' (a file or a built-in name)")
     if parts["lab"] is not None and not parts["lab"].get("properties"):
         raise InputFileError(f"{label}: 'lab' needs 'file' and a list of 'properties' to refit")
+    if parts["lots"] is None or "file" not in parts["lots"]:
+        raise InputFileError(f"{label}: 'lots' must be an object with at least a 'file'")
+    if parts["lab"] is not None and "file" not in parts["lab"]:
+        raise InputFileError(f"{label}: 'lab' needs 'file' and a list of 'properties' to refit")
     title = str(data.get("title") or path.stem)
-    return Scenario(path, title, parts["lots"], parts["blend"], parts["mix"], parts["lab"])
+    return Scenario(path, title, parts["lots"], parts["blend"], parts["mix"], parts["lab"],
+                    allow_outside)
+
+
+def _check_type(value: Any, kind: str, key: str, label: str) -> Any:
+    """The value of ``key`` if it has the type ``kind``; else one line naming the key."""
+    def number(v) -> bool:
+        return (isinstance(v, (int, float)) and not isinstance(v, bool)
+                and math.isfinite(float(v)))
+
+    ok = {
+        "text": lambda v: isinstance(v, str) and bool(v.strip()) and len(v) <= 1000,
+        "number": number,
+        "count": lambda v: isinstance(v, int) and not isinstance(v, bool) and 0 <= v < 2**32,
+        "texts": lambda v: (isinstance(v, str) and bool(v.strip())) or (
+            isinstance(v, list) and bool(v) and all(isinstance(x, str) and x.strip()
+                                                    for x in v)),
+        "levels": lambda v: (isinstance(v, str) and len(v) <= 1000) or (
+            isinstance(v, list) and bool(v) and all(number(x) for x in v)),
+        "class": lambda v: (isinstance(v, str) and len(v) <= 40) or (
+            isinstance(v, int) and not isinstance(v, bool)),
+        "flag": lambda v: isinstance(v, bool),
+    }[kind]
+    if not ok(value):
+        shown = json.dumps(value) if not isinstance(value, str) else repr(value)
+        shown = shown if len(shown) <= 40 else shown[:37] + "..."
+        raise InputFileError(f"{label}: '{key}' must be {_WHAT[kind]}, got {shown}")
+    if kind == "texts" and isinstance(value, str):
+        return [value]
+    if kind == "class":
+        return str(value)
+    return value
 
 
 def _check_keys(obj: dict, part: str, label: str) -> None:
@@ -139,8 +243,9 @@ def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
     lots = scenario.lots
     say("comparing the lots")
     profile = read_profile(
-        scenario.resolve(lots["file"]), basis=lots.get("basis", "fame"),
+        scenario.resolve(lots["file"], "'lots.file'"), basis=lots.get("basis", "fame"),
         sum_tolerance=float(lots.get("sum_tolerance", 2.0)),
+        fractions=bool(lots.get("fractions", False)),
     )
     comparison = compare_lots(
         profile,
@@ -174,6 +279,8 @@ def _part(scenario: Scenario, name: str):
         yield
     except EstimatorError as exc:
         text = str(exc).replace("--levels", "levels").replace("--demand-t", "demand_t")
+        if text.startswith(f"{scenario.path.name}: "):
+            raise
         raise type(exc)(f"{scenario.path.name}: '{name}': {text}") from None
 
 
@@ -184,8 +291,12 @@ def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
 
     spec = scenario.blend
     diesel_name = spec["diesel"]
-    candidate = scenario.resolve(diesel_name)
-    fuel = blending.load_diesel(str(candidate) if candidate.exists() else diesel_name)
+    beside = scenario.path.parent / diesel_name
+    if Path(diesel_name).suffix.lower() in (".json", ".csv") or beside.exists() \
+            or Path(diesel_name).is_absolute():
+        fuel = blending.load_diesel(str(scenario.resolve(diesel_name, "'blend.diesel'")))
+    else:
+        fuel = blending.load_diesel(diesel_name)
     grid = blending.parse_levels(spec.get("levels", "0,2,5,7,10,20,30,50,100"))
     targets = blend_targets.blend_targets(
         max_cfpp_C=spec.get("max_cfpp_C"), max_cloud_point_C=spec.get("max_cloud_point_C"),
@@ -225,8 +336,9 @@ def _run_lab(scenario: Scenario, result: ScenarioResult) -> None:
 
     spec = scenario.lab
     props = list(spec["properties"])
-    path = scenario.resolve(spec["file"])
-    lab = read_profile(path, basis=spec.get("basis", "fame"), extra_columns=tuple(props))
+    path = scenario.resolve(spec["file"], "'lab.file'")
+    lab = read_profile(path, basis=spec.get("basis", "fame"), extra_columns=tuple(props),
+                       fractions=bool(spec.get("fractions", False)))
     result.lab_profile = lab
     result.fits = fit_properties(lab, props, seed=int(spec.get("seed", 0)))
     result.models = [f.model for f in result.fits]

@@ -57,6 +57,12 @@ FFA_BASE_LIMIT_WT_PCT = 0.5
 #: Water above which base catalysis loses ester to soap [wt %]. MEMORY, same source.
 WATER_BASE_LIMIT_WT_PCT = 0.06
 
+#: Largest price per tonne taken as a price: beyond it a unit or decimal slip [currency/t].
+#: Wide enough for currencies with small units. # common practice
+MAX_PRICE_PER_T = 1e9
+#: Largest tonnage of one lot taken as a tonnage [t]. # common practice
+MAX_TONNAGE_T = 1e9
+
 #: Metadata columns the valuation reads, with what each is.
 LOT_COLUMNS = {
     "price_per_t": "price of the oil per tonne [currency/t]",
@@ -128,37 +134,57 @@ def lot_inputs(profile) -> pd.DataFrame:
     Raises
     ------
     ProfileError
-        A cell that is not a number, an FFA or water content outside 0-100 wt %,
-        FFA + water above 100 wt %, or a negative price; the message names the file,
-        row and column.
+        A cell that is not a finite number (text, a boolean, ``inf``), an FFA or
+        water content outside 0-100 wt %, FFA + water above 100 wt %, a price
+        outside 0-:data:`MAX_PRICE_PER_T` or an ``available_t`` outside
+        0-:data:`MAX_TONNAGE_T`; the message names the file, row and column.
     """
+    from estimator.profiles.io import parse_numbers
+
     meta = profile.metadata
     rows = profile.rows.to_numpy()
     source = f"{profile.source}: " if profile.source else ""
     out = pd.DataFrame(index=pd.Index(profile.samples, name="sample"))
-    for col in LOT_COLUMNS:
+    for col in (*LOT_COLUMNS, "available_t"):
         if col not in meta.columns:
-            out[col] = np.nan
+            if col in LOT_COLUMNS:
+                out[col] = np.nan
             continue
         raw = meta[col]
-        cells = raw.map(lambda v: v.strip().replace(",", ".") if isinstance(v, str) else v)
-        values = pd.to_numeric(cells.replace("", np.nan), errors="coerce").to_numpy(dtype=float)
-        given = cells.map(
-            lambda v: not (v is None or v == "" or (isinstance(v, float) and np.isnan(v)))
-        ).to_numpy(dtype=bool)
-        bad = given & np.isnan(values)
+        values, problem = parse_numbers(raw)
+        bad = problem != None  # noqa: E711 (element-wise on an object array)
         if bad.any():
             i = int(np.argmax(bad))
+            cell = raw.iloc[i]
+            if problem[i] == "not finite":
+                shown, what = f"'{str(cell).strip()}'", "is not a finite number"
+            else:
+                shown = repr(cell) if isinstance(cell, str) else str(cell)
+                what = "is not a number"
             raise ProfileError(
                 f"{source}row {rows[i]}, column {col!r} (sample {profile.samples[i]!r}): "
-                f"{raw.iloc[i]!r} is not a number"
+                f"{shown[:40]} {what}"
             )
         if col == "price_per_t":
             wrong = values < 0
             what = "is negative; a price cannot be"
+            if not wrong.any() and (values > MAX_PRICE_PER_T).any():
+                wrong = values > MAX_PRICE_PER_T
+                what = f"is more than {MAX_PRICE_PER_T:.0e} per tonne: a unit or decimal slip?"
+        elif col == "available_t":
+            wrong = (values < 0) | (values > MAX_TONNAGE_T)
+            what = f"is outside 0-{MAX_TONNAGE_T:.0e} t"
         else:
             wrong = (values < 0) | (values > 100)
             what = "is outside 0-100 wt %"
+        if col == "available_t":
+            if wrong.any():
+                i = int(np.argmax(wrong))
+                raise ProfileError(
+                    f"{source}row {rows[i]}, column {col!r} (sample {profile.samples[i]!r}): "
+                    f"{values[i]:g} {what}"
+                )
+            continue
         if wrong.any():
             i = int(np.argmax(wrong))
             raise ProfileError(

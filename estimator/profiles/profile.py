@@ -24,7 +24,7 @@ from estimator.errors import ProfileError, UnknownNameError
 from estimator.properties.descriptors import BASES, convert_basis
 from estimator.tables import load_table, species_keys
 
-__all__ = ["DEFAULT_SUM_TOLERANCE", "Profile", "oil_names"]
+__all__ = ["DEFAULT_SUM_TOLERANCE", "OIL_ALIASES", "Profile", "oil_names", "resolve_oil"]
 
 #: Largest distance of a composition sum from 100 that is renormalised [percentage points].
 DEFAULT_SUM_TOLERANCE = 2.0
@@ -41,6 +41,8 @@ class Profile:
     notes: pd.Series = field(repr=False)
     source: str = ""
     rows: pd.Series = field(default=None, repr=False)  # type: ignore[assignment]
+    #: Notes about the files read (e.g. which row held the header), one line each.
+    file_notes: tuple[str, ...] = field(default=(), repr=False)
 
     # ------------------------------------------------------------------ build
     @classmethod
@@ -111,6 +113,12 @@ class Profile:
         off = np.abs(total - 100.0) > sum_tolerance + 1e-9
         if off.any():
             i = int(np.argmax(off))
+            if abs(total[i] - 1.0) <= max(0.02, sum_tolerance / 100.0):
+                raise ProfileError(
+                    f"{_where(source)}row {rows_s.iloc[i]} (sample {ids[i]!r}): composition "
+                    f"sums to {total[i]:.4g}: looks like fractions: multiply by 100 or pass "
+                    "--fractions"
+                )
             raise ProfileError(
                 f"{_where(source)}row {rows_s.iloc[i]} (sample {ids[i]!r}): composition sums to "
                 f"{total[i]:.2f} wt%, more than {sum_tolerance:g} points from 100; "
@@ -152,18 +160,9 @@ class Profile:
     def from_oils(cls, names: Iterable[str]) -> Profile:
         """Typical profiles of built-in feedstocks by name (see ``fame-estimator oils``)."""
         table = load_table("feedstocks")
-        lookup = {_oil_key(n): n for n in table["oil"]}
         rows, picked = [], []
         for name in names:
-            key = lookup.get(_oil_key(name))
-            if key is None:
-                import difflib
-
-                close = difflib.get_close_matches(_oil_key(name), list(lookup), n=3, cutoff=0.5)
-                hint = f"; close matches: {', '.join(lookup[c] for c in close)}" if close else ""
-                raise UnknownNameError(
-                    f"unknown oil {name!r}{hint}; 'fame-estimator oils' lists the built-in oils"
-                )
+            key = resolve_oil(name)
             picked.append(key)
             rows.append(table.loc[table["oil"] == key].iloc[0])
         df = pd.DataFrame(rows).set_index("oil")
@@ -193,7 +192,8 @@ class Profile:
         meta = pd.concat([p.metadata for p in profiles])
         notes = pd.concat([p.notes for p in profiles])
         rows = pd.concat([p.rows for p in profiles])
-        return cls(comp, meta, notes, ", ".join(p.source for p in profiles), rows)
+        file_notes = tuple(n for p in profiles for n in p.file_notes)
+        return cls(comp, meta, notes, ", ".join(p.source for p in profiles), rows, file_notes)
 
     # ------------------------------------------------------------------ views
     @property
@@ -231,6 +231,7 @@ class Profile:
             self.notes.loc[idx],
             self.source,
             self.rows.loc[idx],
+            self.file_notes,
         )
 
 
@@ -241,6 +242,104 @@ def oil_names() -> list[str]:
 
 def _oil_key(name: str) -> str:
     return "".join(ch for ch in name.lower() if ch.isalnum())
+
+
+#: Names people type for the built-in oils (trade names, other languages' crop names,
+#: abbreviations), folded like :func:`_oil_key`. Canola is the low-erucic rapeseed
+#: (common practice); tallow without an animal is taken as beef tallow, the usual
+#: meaning in the trade (common practice).
+OIL_ALIASES = {
+    "canola": "rapeseed", "canolaoil": "rapeseed", "lowerucicrapeseed": "rapeseed",
+    "lear": "rapeseed", "rape": "rapeseed", "rapeseedoil": "rapeseed",
+    "oilseedrape": "rapeseed", "colza": "rapeseed",
+    "higherucicrapeseed": "rapeseed-high-erucic", "hear": "rapeseed-high-erucic",
+    "soy": "soybean", "soya": "soybean", "soyoil": "soybean", "soyaoil": "soybean",
+    "soybeanoil": "soybean",
+    "sunflowerseed": "sunflower", "sunfloweroil": "sunflower",
+    "higholeicsunflower": "sunflower-high-oleic", "hoso": "sunflower-high-oleic",
+    "palmoil": "palm", "pko": "palm-kernel", "palmkerneloil": "palm-kernel",
+    "maize": "corn", "cornoil": "corn", "maizeoil": "corn",
+    "groundnut": "peanut", "groundnutoil": "peanut", "peanutoil": "peanut",
+    "flax": "linseed", "flaxseed": "linseed", "linseedoil": "linseed",
+    "higholeicsafflower": "safflower-high-oleic",
+    "tallow": "beef-tallow", "beeftallow": "beef-tallow", "beeffat": "beef-tallow",
+    "porkfat": "lard", "pigfat": "lard",
+    "choicewhitegrease": "white-grease", "cwg": "white-grease",
+    "chickenfat": "poultry-fat", "poultry": "poultry-fat",
+    "uco": "used-cooking-oil", "usedcookingoil": "used-cooking-oil",
+    "wco": "used-cooking-oil", "wastecookingoil": "used-cooking-oil",
+    "yellowgrease": "used-cooking-oil", "usedfryingoil": "used-cooking-oil",
+}
+
+#: The crop (or animal) each built-in oil comes from; a suggestion for an unknown
+#: name stays within the crop the name mentions.
+_CROP_WORDS = {
+    "soy": "soybean", "rape": "rapeseed", "canola": "rapeseed", "sunflower": "sunflower",
+    "palm": "palm", "coconut": "coconut", "corn": "corn", "maize": "corn",
+    "cotton": "cottonseed", "peanut": "peanut", "groundnut": "peanut", "olive": "olive",
+    "safflower": "safflower", "linseed": "linseed", "flax": "linseed", "jatropha": "jatropha",
+    "camelina": "camelina", "tallow": "beef-tallow", "beef": "beef-tallow", "lard": "lard",
+    "pork": "lard", "grease": "white-grease", "poultry": "poultry-fat",
+    "chicken": "poultry-fat", "cooking": "used-cooking-oil", "frying": "used-cooking-oil",
+}
+
+
+#: Crops with no built-in profile: a name mentioning one gets no suggestion (a near
+#: spelling such as grapeseed / rapeseed is another crop, not a typo).
+_OTHER_CROPS = ("grape", "mustard", "hemp", "rice", "tung", "castor", "alga", "karanja",
+                "pongamia", "neem", "rubber", "sesame", "walnut", "almond", "avocado",
+                "babassu", "tobacco", "fish", "moringa", "crambe", "carinata", "pennycress",
+                "cashew", "macadamia", "shea", "cocoa", "mahua", "yellowhorn")
+
+
+def resolve_oil(name: str) -> str:
+    """The built-in oil a typed name means (its own name or an alias such as ``canola``).
+
+    Raises
+    ------
+    UnknownNameError
+        An unknown name; suggestions, if any, are oils of the crop the name mentions
+        (or a near spelling of one oil), never another crop.
+
+    Examples
+    --------
+    >>> resolve_oil("Canola"), resolve_oil("UCO"), resolve_oil("tallow")
+    ('rapeseed', 'used-cooking-oil', 'beef-tallow')
+    """
+    oils = oil_names()
+    lookup = {_oil_key(n): n for n in oils}
+    key = _oil_key(str(name))
+    if key in lookup:
+        return lookup[key]
+    if key.endswith("oil") and key[:-3] in lookup:
+        return lookup[key[:-3]]
+    if key in OIL_ALIASES:
+        return OIL_ALIASES[key]
+    raise UnknownNameError(
+        f"unknown oil {name!r}{_oil_hint(str(name), oils)}; 'fame-estimator oils' lists the "
+        "built-in oils"
+    )
+
+
+def _oil_hint(name: str, oils: list[str]) -> str:
+    import re
+
+    key = _oil_key(name)
+    tokens = re.findall(r"[a-z]+", name.lower())
+    crops = {crop for word, crop in _CROP_WORDS.items()
+             if any(t.startswith(word) or t.endswith(word) for t in tokens)}
+    if any(t.startswith(c) or t.endswith(c) for t in tokens for c in _OTHER_CROPS):
+        return ""
+    if crops:
+        family = {c.split("-")[0] for c in crops}
+        close = [o for o in oils if o in crops or o.split("-")[0] in family]
+    else:
+        import difflib
+
+        lookup = {_oil_key(n): n for n in oils}
+        close = [lookup[c] for c in difflib.get_close_matches(key, list(lookup), n=1,
+                                                              cutoff=0.85)]
+    return f"; close matches: {', '.join(close)}" if close else ""
 
 
 def _where(source: str) -> str:

@@ -438,13 +438,20 @@ def cautions_section(comparison) -> Section:
 
 def comparison_sections(comparison, plots: Sequence | None = None) -> list[Section]:
     """All sections of the buyer's comparison report, in reading order."""
+    from estimator.report.subset import subset_comparison
+
     if plots is None:
         from estimator.report.plots import comparison_figures
 
         plots = comparison_figures(comparison)
+    full = comparison
+    comparison, note = subset_comparison(full)  # many lots: the best and the failing ones
+    ranking = ranking_section(comparison)
+    if note:
+        ranking = Section(ranking.title, paragraph(note) + ranking.html, ranking.id)
     return [
-        summary_section(comparison),
-        ranking_section(comparison),
+        summary_section(full),
+        ranking,
         figures_section(plots),
         verdicts_section(comparison),
         valuation_section(comparison),

@@ -33,9 +33,11 @@ __all__ = [
     "composition_bars",
     "cost_per_tonne",
     "figure_png_base64",
+    "plain_text",
     "pretty_unit",
     "property_by_lot",
     "save_figure",
+    "save_png",
 ]
 
 #: Paul Tol's "muted" qualitative scheme (colour-blind safe), then his pale grey.
@@ -102,6 +104,8 @@ _STYLE = {
     "grid.linewidth": 0.6,
     "svg.fonttype": "none",
     "hatch.linewidth": 0.8,
+    # lot and sample names are data: never parse them as math markup ($...$)
+    "text.parse_math": False,
 }
 
 
@@ -479,6 +483,20 @@ def cost_per_tonne(
     return fig
 
 
+def plain_text(fig) -> None:
+    """Make every text of ``fig`` plain: no math markup is parsed in names or labels.
+
+    A lot named ``$\\frac{$`` would otherwise be read as (broken) mathtext and stop
+    the drawing. The figures use no math markup of their own (units are written with
+    Unicode super- and subscripts); tick labels made while drawing are covered by the
+    ``text.parse_math`` setting the save functions draw under.
+    """
+    from matplotlib.text import Text
+
+    for text in fig.findobj(Text):
+        text.set_parse_math(False)
+
+
 def save_figure(fig, stem: str | Path, *, dpi: int = 150) -> list[Path]:
     """Write ``stem.png`` and ``stem.svg`` atomically; return both paths."""
     import matplotlib
@@ -486,16 +504,32 @@ def save_figure(fig, stem: str | Path, *, dpi: int = 150) -> list[Path]:
     from estimator.files import atomic_write
 
     stem = Path(stem)
+    plain_text(fig)
     paths = []
     for fmt in ("png", "svg"):
         path = stem.with_suffix(f".{fmt}")
 
         def write(tmp: Path, fmt: str = fmt) -> None:
-            with matplotlib.rc_context({"svg.fonttype": "none"}):
+            with matplotlib.rc_context({"svg.fonttype": "none", "text.parse_math": False}):
                 fig.savefig(tmp, format=fmt, dpi=dpi, metadata=_metadata(fmt))
 
         paths.append(atomic_write(path, write))
     return paths
+
+
+def save_png(fig, path: str | Path, *, dpi: int = 150) -> Path:
+    """Write one PNG atomically, names and labels as plain text; return the path."""
+    import matplotlib
+
+    from estimator.report.tables import atomic_write
+
+    plain_text(fig)
+
+    def write(tmp: Path) -> None:
+        with matplotlib.rc_context({"text.parse_math": False}):
+            fig.savefig(tmp, format="png", dpi=dpi)
+
+    return atomic_write(path, write)
 
 
 def _metadata(fmt: str) -> dict:
@@ -505,8 +539,12 @@ def _metadata(fmt: str) -> dict:
 
 def figure_png_base64(fig, *, dpi: int = 110) -> str:
     """The figure as a base64-encoded PNG, for embedding in an HTML report."""
+    import matplotlib
+
     buffer = io.BytesIO()
-    fig.savefig(buffer, format="png", dpi=dpi)
+    plain_text(fig)
+    with matplotlib.rc_context({"text.parse_math": False}):
+        fig.savefig(buffer, format="png", dpi=dpi)
     return base64.b64encode(buffer.getvalue()).decode("ascii")
 
 
@@ -578,7 +616,9 @@ def comparison_figures(comparison) -> list[Plot]:
     and the cost per tonne of fuel.
     """
     from estimator.comparison import SPEC_LABELS
+    from estimator.report.subset import subset_comparison
 
+    comparison, shown_note = subset_comparison(comparison)  # many lots: a readable subset
     ranked = comparison.ranked
     lots = list(ranked["sample"])
     lim = comparison.limits
@@ -647,4 +687,6 @@ def comparison_figures(comparison) -> list[Plot]:
         "Feedstock cost per tonne of fuel: price per tonne of oil divided by the theoretical "
         "fuel yield. Lots in ranked order.",
     ))
+    if shown_note:
+        plots = [Plot(p.name, p.figure, f"{p.caption} {shown_note}") for p in plots]
     return plots

@@ -154,3 +154,39 @@ def test_missing_file_is_an_error(tmp_path):
     with pytest.raises(EstimatorError) as err:
         read_profile(tmp_path / "nope.csv")
     assert str(err.value) == "nope.csv: no such file"
+
+
+# ---------------------------------------------------------------- lab files as they are
+def test_percent_signs_in_cells_are_read_as_mass_percent(tmp_path):
+    p = read_profile(write(tmp_path, "p.csv", "sample,C16:0,C18:1,C18:2\nA,10.5%,60%,29.5 %\n"))
+    assert pct(p, "A", "C16:0") == pytest.approx(10.5)
+
+
+def test_title_lines_above_the_header_are_skipped_and_named_in_a_note(tmp_path):
+    text = "Instrument GC-7; column B\nOperator, R. Ames\n\nsample;C16:0;C18:1\nA;10,5;89,5\n"
+    p = read_profile(write(tmp_path, "t.csv", text))
+    assert pct(p, "A", "C16:0") == pytest.approx(10.5)
+    assert p.file_notes == ("t.csv: header (species columns) found on row 4; rows 1-3 above "
+                            "it read as titles or notes and skipped",)
+    assert read_profile(write(tmp_path, "u.csv", WIDE)).file_notes == ()
+
+
+def test_a_bad_cell_below_title_lines_names_its_row_in_the_file(tmp_path):
+    text = "GC report\nsample,C16:0,C18:1\nA,10,90\nB,x,90\n"
+    with pytest.raises(EstimatorError, match=r"^t.csv: row 4, column 'C16:0': 'x' is not"):
+        read_profile(write(tmp_path, "t.csv", text))
+
+
+def test_fractions_are_multiplied_by_100_when_asked(tmp_path):
+    path = write(tmp_path, "f.csv", "sample,C16:0,C18:1\nA,0.1,0.9\n")
+    with pytest.raises(EstimatorError, match="looks like fractions: multiply by 100 or pass"):
+        read_profile(path)
+    assert pct(read_profile(path, fractions=True), "A", "C16:0") == pytest.approx(10)
+
+
+def test_json_null_is_an_empty_cell_but_true_is_refused(tmp_path):
+    ok = [{"sample": "A", "C16:0": None, "C18:1": 100}]
+    assert pct(read_profile(write(tmp_path, "n.json", json.dumps(ok))), "A", "C16:0") == 0
+    bad = [{"sample": "A", "C16:0": False, "C18:1": 100}]
+    with pytest.raises(EstimatorError, match=r"row 1, column 'C16:0': False is not a number"):
+        read_profile(write(tmp_path, "b.json", json.dumps(bad)))

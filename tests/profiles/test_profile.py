@@ -119,3 +119,33 @@ def test_profile_subset_and_concat_keep_ids_unique():
     a = Profile.from_oils(["soybean", "palm"])
     with pytest.raises(ProfileError, match="appears in more than one input"):
         Profile.concat([a, a.subset(["palm"])])
+
+
+# ---------------------------------------------------------------- oil names people type
+@pytest.mark.parametrize(("typed", "oil"), [
+    ("canola", "rapeseed"),  # canola: the low-erucic rapeseed (common practice)
+    ("Canola oil", "rapeseed"), ("tallow", "beef-tallow"), ("UCO", "used-cooking-oil"),
+    ("yellow grease", "used-cooking-oil"), ("soya", "soybean"), ("maize", "corn"),
+    ("HEAR", "rapeseed-high-erucic"), ("palm oil", "palm"),
+])
+def test_oil_aliases_resolve(typed, oil):
+    from estimator.profiles.profile import resolve_oil
+
+    assert resolve_oil(typed) == oil
+
+
+@pytest.mark.parametrize(("typed", "allowed"), [
+    ("canolla", set()), ("grapeseed", set()), ("soyabean", {"soybean"}),
+    ("rapeseed-winter", {"rapeseed", "rapeseed-high-erucic"}),
+    ("saflower-high-oleic", {"safflower-high-oleic"}),
+])
+def test_a_suggestion_never_offers_another_crop(typed, allowed):
+    from estimator.errors import UnknownNameError
+    from estimator.profiles.profile import resolve_oil
+
+    with pytest.raises(UnknownNameError) as err:
+        resolve_oil(typed)
+    text = str(err.value)
+    offered = set(text.split("close matches: ")[1].split(";")[0].split(", ")) \
+        if "close matches" in text else set()
+    assert offered == allowed

@@ -45,7 +45,8 @@ def test_report_command_writes_one_report_with_every_part(tmp_path):
     scenario = tmp_path / "scenario.json"
     scenario.write_text(json.dumps(data))
     out = tmp_path / "out"
-    result = CliRunner().invoke(cli, ["report", str(scenario), "-o", str(out)])
+    result = CliRunner().invoke(cli, ["report", str(scenario), "-o", str(out),
+                                        "--allow-outside"])
     assert result.exit_code == 0, result.output
     for name in ("report.html", "comparison.csv", "comparison.xlsx", "blend.xlsx", "mix.xlsx",
                  "lab_model.json", "estimates_with_lab_model.csv",
