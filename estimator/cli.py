@@ -18,6 +18,7 @@ from estimator.cliutil import (
     ReportingCommand,
     ReportingGroup,
     emit,
+    fractions_requested,
     input_options,
     load_inputs,
     peak_options,
@@ -122,7 +123,8 @@ def _predict_to_file(inputs, oils, basis, sum_tolerance, temperatures, models, o
     if not inputs and not oils:
         raise UsageError("give at least one INPUT file or --oil NAME (see --help)")
     kwargs = {"oils": oils, "basis": basis, "sum_tolerance": sum_tolerance,
-              "temperatures_C": temperatures, "models": models}
+              "temperatures_C": temperatures, "models": models,
+              "fractions": fractions_requested()}
     size = sum(os.path.getsize(p) for p in inputs if os.path.isfile(p))
     if output.lower().endswith(".xlsx") and size > 40_000_000:
         from estimator.files import XLSX_MAX_ROWS
