@@ -52,6 +52,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cache
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -82,6 +83,8 @@ class Constraint:
     limit: float
     label: str
     source: str = ""
+    #: The specification's own limit when ``limit`` was moved inside it by a margin.
+    spec_limit: float | None = None
 
     @property
     def sign(self) -> float:
@@ -164,23 +167,44 @@ def mixed_composition(wt_pct_lots: np.ndarray, shares: np.ndarray) -> np.ndarray
 class _Model:
     """Evaluates constraint properties on compositions with the chosen methods."""
 
-    def __init__(self, methods: Mapping[str, str]):
+    def __init__(self, methods: Mapping[str, str], fitted: Mapping | None = None):
         from estimator.properties.methods import PROPERTIES, default_method, get_method
         from estimator.specs import EXACT_PROPERTIES
 
         self.methods = dict(methods)
+        self.fitted = dict(fitted or {})
         self._exact = set(EXACT_PROPERTIES)
         self._props = set(PROPERTIES)
         self._get = lambda p: get_method(p, self.methods[p]) if p in self.methods else \
             default_method(p)
 
     def method(self, prop: str):
-        """The registry Method used for ``prop`` (None for exact composition values)."""
-        if prop in self._exact:
+        """The registry Method used for ``prop`` (None for exact composition values and
+        for properties a lab model gives)."""
+        if prop in self._exact or prop in self.fitted:
             return None
         if prop not in self._props:
             raise UnknownNameError(f"no estimate for {prop!r}; cannot constrain the mix on it")
         return self._get(prop)
+
+    def errors(self, props: Sequence[str], w: np.ndarray) -> dict[str, np.ndarray]:
+        """The stated error of each property on every row of ``w`` (0 for exact ones)."""
+        from estimator.properties.predict import estimate
+
+        w = np.atleast_2d(w)
+        out = {p: np.asarray(self.fitted[p].predict(w).error, dtype=float)
+               for p in props if p in self.fitted}
+        rest = [p for p in props if p not in out]
+        if rest:
+            long = estimate(w, [str(i) for i in range(len(w))],
+                            methods=self.methods or "default")
+            for p in rest:
+                m = self.method(p)
+                rows = long[(long["property"].astype(str) == p)
+                            & (long["method"].astype(str) == (m.name if m else ""))]
+                out[p] = (rows["error"].to_numpy(dtype=float) if len(rows) == len(w)
+                          else np.zeros(len(w)))
+        return out
 
     def values(self, props: Sequence[str], w: np.ndarray) -> dict[str, np.ndarray]:
         """Each property on every row of ``w``."""
@@ -189,7 +213,9 @@ class _Model:
         out = {}
         for prop in props:
             m = self.method(prop)
-            if m is None:
+            if prop in self.fitted:
+                out[prop] = np.asarray(self.fitted[prop].predict(w).value, dtype=float)
+            elif m is None:
                 out[prop] = np.asarray(desc[prop], dtype=float)
             elif m.name == "imahara2006":  # same function, ester data looked up once
                 out[prop] = _imahara_fast(w)
@@ -313,12 +339,15 @@ class MixResult:
     verdicts: pd.DataFrame | None = None
     diagnosis: pd.DataFrame | None = None
     notes: list[str] = field(default_factory=list)
+    margin_bands: float = 0.0
+    #: Properties a lab model gave (``property -> how``), for the report.
+    model_properties: dict[str, str] = field(default_factory=dict)
 
 
-def _lot_inputs(profile, available_column, demand_t, pretreat):
+def _lot_inputs(profile, available_column, demand_t, pretreat, costs=None):
     from estimator.sourcing import value_lots
 
-    valued = value_lots(profile, pretreat=pretreat)
+    valued = value_lots(profile, pretreat=pretreat, costs=costs)
     cost = valued["cost_per_t_fuel"].to_numpy(dtype=float)
     yields = valued["fuel_yield_t_per_t_oil"].to_numpy(dtype=float)
     rows = profile.rows.to_numpy()
@@ -373,6 +402,9 @@ def least_cost_mix(
     spec: str | None = None,
     climate_class: str | None = None,
     seed: int = 0,
+    margin_bands: float = 0.0,
+    models: Sequence[str] = (),
+    costs=None,
 ) -> MixResult:
     """Find the cheapest fuel-mass shares of the lots whose mixed FAME meets every limit.
 
@@ -396,15 +428,56 @@ def least_cost_mix(
         Specification whose verdicts (:func:`estimator.specs.check`) are attached.
     seed : int
         Seed of the random mixes used to test linearity (results do not depend on it).
+    margin_bands : float
+        How many stated errors ("bands") inside each limit the mix must stay: each
+        limit is moved inward by ``margin_bands`` times the stated error of that
+        property, taken first at the equal-share mix and then at the mix found, until
+        it stops growing (exact composition limits have no band). 0 lets the mix sit
+        on its limits (its verdict is then 'too close to call'). [1]
+    models : sequence of path
+        Lab model files (``fame-estimator fit``): their properties replace the
+        published estimates in the limits and the verdicts.
+    costs : ProcessCosts, optional
+        Processing prices for the cost per tonne of fuel
+        (:func:`estimator.sourcing.value_lots`).
     """
     if demand_t is not None and not (np.isfinite(demand_t) and demand_t > 0):
         raise UsageError(f"--demand-t must be a positive number of tonnes, got {demand_t:g}")
     if not constraints:
         raise UsageError("no limits to meet: give a specification or a cold-flow limit")
-    model = _Model(methods or {})
+    if not (np.isfinite(margin_bands) and 0 <= margin_bands <= 10):
+        raise UsageError(f"--margin must be between 0 and 10 bands, got {margin_bands:g}")
+    model = _Model(methods or {}, _fitted_models(models))
     valued, cost, yields, avail, notes = _lot_inputs(profile, available_column, demand_t,
-                                                     pretreat)
+                                                     pretreat, costs)
     w_lots = profile.wt_pct
+    if margin_bands <= 0:
+        constraints = [c if c.spec_limit is not None else
+                       Constraint(c.property, c.kind, c.limit, c.label, c.source, c.limit)
+                       for c in constraints]
+        return _solve(profile, model, constraints, valued, cost, yields, avail, notes, w_lots,
+                      demand_t, spec, climate_class, seed, models, margin_bands)
+    # Move each limit inside by the margin times the stated error; where that error
+    # depends on the composition, take it at the mix found and solve again.
+    mean_mix = mixed_composition(w_lots, np.ones(len(w_lots)) / len(w_lots))[None, :]
+    errors = {p: float(np.nan_to_num(e[0])) for p, e in model.errors(
+        list(dict.fromkeys(c.property for c in constraints)), mean_mix).items()}
+    result = None
+    for _ in range(4):
+        tight = _with_margin(constraints, errors, margin_bands)
+        result = _solve(profile, model, tight, valued, cost, yields, avail, notes, w_lots,
+                        demand_t, spec, climate_class, seed, models, margin_bands)
+        at_mix = dict(zip(result.constraints["property"], result.constraints["error"]))
+        grown = {p: e for p, e in at_mix.items() if e > errors.get(p, 0.0) * (1 + 1e-6) + 1e-12}
+        if not grown or not result.feasible:
+            break
+        errors.update(grown)
+    return result
+
+
+def _solve(profile, model, constraints, valued, cost, yields, avail, notes, w_lots, demand_t,
+           spec, climate_class, seed, models, margin_bands) -> MixResult:
+    """One least-cost programme over fixed limits (see :func:`least_cost_mix`)."""
     ub = _upper_bounds(avail, yields, demand_t)
     rng = np.random.default_rng(seed)
     linear, nonlinear, hows = [], [], {}
@@ -423,7 +496,7 @@ def least_cost_mix(
         message = (f"no mix can supply {demand_t:g} t of fuel: the lots make at most "
                    f"{supply:.1f} t")
         return _finish(profile, problem, valued, shares, False, message, "none", hows, demand_t,
-                       avail, notes, spec, climate_class, diagnosis=None)
+                       avail, notes, spec, climate_class, diagnosis=None, models=models)
 
     shares, _status = problem.solve_lp()
     solver = "linprog (HiGHS)"
@@ -450,11 +523,43 @@ def least_cost_mix(
     else:
         message = f"least-cost mix found by {solver}"
     result = _finish(profile, problem, valued, shares, feasible, message, solver, hows, demand_t,
-                     avail, notes, spec, climate_class, diagnosis=diagnosis)
+                     avail, notes, spec, climate_class, diagnosis=diagnosis, models=models)
+    result.margin_bands = float(margin_bands)
+    if not feasible and margin_bands > 0 and diagnosis is not None:
+        result.message = result.message.replace(
+            "meets", f"stays {margin_bands:g} stated error(s) inside every limit of", 1) + (
+            "; a smaller --margin may find one")
     if feasible and not result.constraints["meets"].all():  # pragma: no cover - safety net
         result.feasible = False
         result.message = "the mix found does not meet every limit when re-checked"
     return result
+
+
+def _fitted_models(paths: Sequence[str]) -> dict:
+    """``property -> fitted model`` from lab model files (one file per property)."""
+    if not paths:
+        return {}
+    from estimator.errors import ModelFileError
+    from estimator.refit.model_file import read_model_file
+
+    out: dict = {}
+    for path in paths:
+        for model in read_model_file(path).models:
+            if model.property in out:
+                raise ModelFileError(f"{Path(path).name}: {model.property} also has a model in "
+                                     "another file; give one --model file per property")
+            out[model.property] = model
+    return out
+
+
+def _with_margin(constraints: Sequence[Constraint], errors: Mapping[str, float],
+                 bands: float) -> list[Constraint]:
+    """Each limit moved inward by ``bands`` times its property's stated error."""
+    out = []
+    for c in constraints:
+        limit = c.limit - c.sign * bands * float(errors.get(c.property, 0.0))
+        out.append(Constraint(c.property, c.kind, limit, c.label, c.source, c.limit))
+    return out
 
 
 def _infeasible_message(diagnosis: pd.DataFrame, spec: str | None) -> str:
@@ -657,7 +762,10 @@ class _Problem:
 
 
 def _finish(profile, problem: _Problem, valued, shares, feasible, message, solver, hows,
-            demand_t, avail, notes, spec, climate_class, diagnosis) -> MixResult:
+            demand_t, avail, notes, spec, climate_class, diagnosis, models=()) -> MixResult:
+    from types import SimpleNamespace
+
+    from estimator.comparison import decision_rows, model_properties
     from estimator.properties.predict import estimate
     from estimator.specs import check, composition_estimates
 
@@ -685,31 +793,47 @@ def _finish(profile, problem: _Problem, valued, shares, feasible, message, solve
     mix = mixed_composition(problem.w, shares)
     composition = pd.Series(mix, index=list(species_keys()), name="mix_wt_pct")
     long = estimate(mix[None, :], ["mix"], methods=problem.model.methods or "default")
+    if models:
+        from estimator.refit.apply import apply_models
+
+        long = apply_models(SimpleNamespace(wt_pct=mix[None, :], samples=["mix"]), list(models),
+                            long)
     long = pd.concat([long.astype({"property": str, "method": str, "unit": str, "note": str}),
                       composition_estimates(mix[None, :], ["mix"])], ignore_index=True)
     vals = problem.values(shares)
+    errs = problem.model.errors(list(dict.fromkeys(c.property for c in problem.all)),
+                                mix[None, :])
     crow = []
     for c in problem.all:
         v = vals[c.property]
         margin = -problem.violation(c, v)
         binding = bool(np.isfinite(margin) and abs(margin) <= 1e-5 * max(1.0, abs(c.limit)))
+        spec_limit = c.limit if c.spec_limit is None else c.spec_limit
+        headroom = -c.sign * (v - spec_limit)
+        err = float(np.nan_to_num(errs.get(c.property, [0.0])[0]))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            bands = headroom / err if err > 0 else (np.inf if headroom >= -1e-9 else -np.inf)
         crow.append({
-            "constraint": c.label, "property": c.property, "kind": c.kind, "limit": c.limit,
-            "value": v, "margin": 0.0 if binding else margin, "binding": binding,
+            "constraint": c.label, "property": c.property, "kind": c.kind,
+            "limit": spec_limit, "limit_with_margin": c.limit,
+            "value": v, "error": err, "headroom": headroom, "headroom_bands": bands,
+            "margin": 0.0 if binding else margin, "binding": binding,
             "meets": problem.meets(c, v),
             "linear_form": hows.get(c.label, "nonlinear (checked, SLSQP)"),
             "source": c.source,
         })
     ctable = pd.DataFrame(crow)
-    verdicts = check(long, spec, climate_class) if spec is not None else None
-    targets = _target_verdicts(long, [c for c in problem.all if c.source == "user"])
+    long_decide = decision_rows(long)
+    verdicts = check(long_decide, spec, climate_class) if spec is not None else None
+    targets = _target_verdicts(long_decide, [c for c in problem.all if c.source == "user"])
     if targets is not None:
         verdicts = targets if verdicts is None else pd.concat([verdicts, targets],
                                                               ignore_index=True)
     cost = float(problem.cost @ shares)
     return MixResult(feasible=bool(feasible), message=message, lots=lots, constraints=ctable,
                      composition=composition, estimates=long, cost_per_t_fuel=cost,
-                     solver=solver, verdicts=verdicts, diagnosis=diagnosis, notes=notes)
+                     solver=solver, verdicts=verdicts, diagnosis=diagnosis, notes=notes,
+                     model_properties=model_properties(long))
 
 
 def _target_verdicts(long: pd.DataFrame, targets: Sequence[Constraint]) -> pd.DataFrame | None:
@@ -719,14 +843,18 @@ def _target_verdicts(long: pd.DataFrame, targets: Sequence[Constraint]) -> pd.Da
 
     rows = []
     for c in targets:
-        est = long[(long["property"].astype(str) == c.property)
-                   & (long["method"].astype(str) == DEFAULTS.get(c.property, ""))]
+        method = long["method"].astype(str)
+        mine = long["property"].astype(str) == c.property
+        fitted = mine & method.str.startswith("fit:")
+        est = long[fitted] if fitted.any() else long[mine & (method == DEFAULTS.get(c.property,
+                                                                                     ""))]
         if est.empty:
             continue
         r = est.iloc[0]
         rows.append({"sample": r["sample"], "spec": "target", "property": c.property,
                      "estimate": float(r["value"]), "error": float(r["error"]),
-                     "limit": c.limit, "bound": c.kind, "unit": str(r["unit"]),
+                     "limit": c.limit if c.spec_limit is None else c.spec_limit,
+                     "bound": c.kind, "unit": str(r["unit"]),
                      "method": str(r["method"]), "in_domain": bool(r["in_domain"]),
                      "climate_class": None, "edition": "", "mark": "user target"})
     if not rows:

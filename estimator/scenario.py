@@ -17,8 +17,17 @@ file are relative to the file. Keys (all but ``lots`` optional)::
       "mix":   {"spec": "en14214", "climate_class": null, "max_cfpp_C": -5,
                 "max_cloud_point_C": null, "demand_t": 1500, "available_column": "available_t"},
       "lab":   {"file": "lab_samples.csv", "properties": ["cetane_number", "cfpp_C"],
-                "seed": 0}
+                "seed": 0},
+      "costs": "costs.json",
+      "model": "lab" or "lab_model.json" or ["a.json", "b.json"]
     }
+
+``costs`` names a costs file (:func:`estimator.sourcing.read_costs`) used by the
+comparison and the mix. ``model`` makes lab models drive the decisions: their
+properties replace the published estimates in the comparison's verdicts and
+ranking, the blend and the mix; ``"lab"`` uses the models the ``lab`` part fits
+(which then runs first). ``mix`` also takes ``margin_bands`` (see
+:func:`estimator.mixing.least_cost_mix`; default 1).
 
 Nothing here prints or draws; :mod:`estimator.report.scenario_report` writes the files.
 """
@@ -26,6 +35,7 @@ Nothing here prints or draws; :mod:`estimator.report.scenario_report` writes the
 from __future__ import annotations
 
 import json
+import tempfile
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -36,12 +46,12 @@ from estimator.errors import InputFileError, UsageError
 __all__ = ["Scenario", "ScenarioResult", "read_scenario", "run_scenario"]
 
 _KEYS = {
-    "": {"title", "lots", "blend", "mix", "lab"},
+    "": {"title", "lots", "blend", "mix", "lab", "costs", "model"},
     "lots": {"file", "basis", "specs", "climate_class", "pretreat", "methanol_ratio",
              "sum_tolerance"},
     "blend": {"diesel", "levels", "climate_class", "max_cfpp_C", "max_cloud_point_C", "specs"},
     "mix": {"spec", "climate_class", "max_cfpp_C", "max_cloud_point_C", "demand_t",
-            "available_column", "pretreat"},
+            "available_column", "pretreat", "margin_bands"},
     "lab": {"file", "properties", "seed", "basis"},
 }
 
@@ -56,6 +66,8 @@ class Scenario:
     blend: dict[str, Any] | None = None
     mix: dict[str, Any] | None = None
     lab: dict[str, Any] | None = None
+    costs: str | None = None
+    model: tuple[str, ...] = ()
 
     def resolve(self, name: str) -> Path:
         """A path named in the scenario, relative to the scenario file."""
@@ -75,6 +87,9 @@ class ScenarioResult:
     fits: list = field(default_factory=list)
     lab_profile: Any = None
     models: list = field(default_factory=list)
+    costs: Any = None
+    #: Properties a lab model gave in the decisions (``property -> how``).
+    model_properties: dict = field(default_factory=dict)
 
 
 def read_scenario(path: str | Path) -> Scenario:
@@ -107,7 +122,19 @@ def read_scenario(path: str | Path) -> Scenario:
     if parts["lab"] is not None and not parts["lab"].get("properties"):
         raise InputFileError(f"{label}: 'lab' needs 'file' and a list of 'properties' to refit")
     title = str(data.get("title") or path.stem)
-    return Scenario(path, title, parts["lots"], parts["blend"], parts["mix"], parts["lab"])
+    costs = data.get("costs")
+    if costs is not None and not isinstance(costs, str):
+        raise InputFileError(f"{label}: 'costs' must be the name of a costs JSON file")
+    model = data.get("model")
+    models = (model,) if isinstance(model, str) else tuple(model) if isinstance(
+        model, list) else () if model is None else None
+    if models is None or not all(isinstance(m, str) and m for m in models):
+        raise InputFileError(f"{label}: 'model' must be \"lab\", a model file name or a list "
+                             "of them")
+    if "lab" in models and parts["lab"] is None:
+        raise InputFileError(f"{label}: 'model' is \"lab\" but there is no 'lab' part to fit")
+    return Scenario(path, title, parts["lots"], parts["blend"], parts["mix"], parts["lab"],
+                    costs, models)
 
 
 def _check_keys(obj: dict, part: str, label: str) -> None:
@@ -121,7 +148,8 @@ def _check_keys(obj: dict, part: str, label: str) -> None:
 
 
 def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
-    """Run every part of a scenario and return the results (no files written).
+    """Run every part of a scenario and return the results (no output files written; with
+    ``"model": "lab"`` the fitted models pass through a temporary model file).
 
     ``progress`` is an optional callable taking a short text, called before each part.
     """
@@ -130,33 +158,64 @@ def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
     from estimator.specs import normalise_climate_class
 
     say = progress or (lambda text: None)
+    with tempfile.TemporaryDirectory(prefix="fame-scenario-") as tmp:
+        return _run(scenario, say, Path(tmp), compare_lots, read_profile,
+                    normalise_climate_class)
+
+
+def _run(scenario: Scenario, say, tmp: Path, compare_lots, read_profile,
+         normalise_climate_class) -> ScenarioResult:
     lots = scenario.lots
-    say("comparing the lots")
+    costs = None
+    if scenario.costs is not None:
+        from estimator.sourcing import read_costs
+
+        costs = read_costs(scenario.resolve(scenario.costs))
     profile = read_profile(
         scenario.resolve(lots["file"]), basis=lots.get("basis", "fame"),
         sum_tolerance=float(lots.get("sum_tolerance", 2.0)),
     )
-    comparison = compare_lots(
+    result = ScenarioResult(scenario, profile, None, costs=costs)
+    models: list[str] = []
+    if "lab" in scenario.model:
+        say("refitting on the lab samples")
+        with _part(scenario, "lab"):
+            _run_lab(scenario, result)
+        models.append(str(_lab_model_file(scenario, result, tmp)))
+    models += [str(scenario.resolve(m)) for m in scenario.model if m != "lab"]
+    say("comparing the lots")
+    result.comparison = compare_lots(
         profile,
         spec_names=tuple(lots.get("specs", ("en14214", "astm-d6751"))),
         climate_class=normalise_climate_class(lots.get("climate_class")),
         pretreat=lots.get("pretreat", "none"),
         methanol_ratio=float(lots.get("methanol_ratio", 6.0)),
+        costs=costs, models=models,
     )
-    result = ScenarioResult(scenario, profile, comparison)
+    result.model_properties = dict(result.comparison.model_properties or {})
     if scenario.blend is not None:
         say("blending with diesel")
         with _part(scenario, "blend"):
-            result.blend = _run_blend(scenario, profile)
+            result.blend = _run_blend(scenario, profile, result.comparison.estimates
+                                      if models else None)
     if scenario.mix is not None:
         say("finding the least-cost mix")
         with _part(scenario, "mix"):
-            result.mix = _run_mix(scenario, profile)
-    if scenario.lab is not None:
+            result.mix = _run_mix(scenario, profile, models, costs)
+    if scenario.lab is not None and not result.fits:
         say("refitting on the lab samples")
         with _part(scenario, "lab"):
             _run_lab(scenario, result)
     return result
+
+
+def _lab_model_file(scenario: Scenario, result: ScenarioResult, tmp: Path) -> Path:
+    """The lab part's models as a model file in ``tmp`` (read back like any --model file)."""
+    from estimator.refit import file_provenance, save_models
+
+    lab_path = scenario.resolve(scenario.lab["file"])
+    return save_models(result.models, tmp / "lab_model.json",
+                       file_provenance(lab_path, len(result.lab_profile)))
 
 
 @contextmanager
@@ -171,7 +230,7 @@ def _part(scenario: Scenario, name: str):
         raise type(exc)(f"{scenario.path.name}: '{name}': {text}") from None
 
 
-def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
+def _run_blend(scenario: Scenario, profile, long=None) -> dict[str, Any]:
     import numpy as np
 
     from estimator import blend_targets, blending
@@ -179,14 +238,15 @@ def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
     spec = scenario.blend
     diesel_name = spec["diesel"]
     candidate = scenario.resolve(diesel_name)
-    fuel = blending.load_diesel(str(candidate) if candidate.exists() else diesel_name)
     grid = blending.parse_levels(spec.get("levels", "0,2,5,7,10,20,30,50,100"))
     targets = blend_targets.blend_targets(
         max_cfpp_C=spec.get("max_cfpp_C"), max_cloud_point_C=spec.get("max_cloud_point_C"),
         climate_class=spec.get("climate_class"),
         specs=list(spec.get("specs", ("en590", "astm-d7467"))),
     )
-    fame = blending.fame_component(profile.wt_pct, profile.samples)
+    fuel = blending.load_diesel(str(candidate) if candidate.exists() else diesel_name,
+                                blending.needed_properties(t.property for t in targets))
+    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long)
     wide = blending.blend_wide(fame, fuel, grid)
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
     top = float(grid.max()) if grid.max() > 0 else 100.0
@@ -195,7 +255,7 @@ def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
             "curve": curve, "summary": blend_targets.summary_table(highest) if targets else None}
 
 
-def _run_mix(scenario: Scenario, profile):
+def _run_mix(scenario: Scenario, profile, models=(), costs=None):
     from estimator import mixing
     from estimator.specs import normalise_climate_class
 
@@ -210,6 +270,7 @@ def _run_mix(scenario: Scenario, profile):
         profile, constraints, demand_t=spec.get("demand_t"),
         available_column=spec.get("available_column"), pretreat=spec.get("pretreat", "none"),
         spec=name, climate_class=climate_class,
+        margin_bands=float(spec.get("margin_bands", 1.0)), models=models, costs=costs,
     )
 
 
