@@ -16,10 +16,10 @@ from estimator.comparison import (
     long_estimates,
     methods_used,
 )
-from estimator.sourcing import ProcessCosts
 from estimator.profiles.io import read_profile
 from estimator.profiles.profile import Profile
 from estimator.properties.methods import DEFAULTS, get_method
+from estimator.sourcing import ProcessCosts
 from estimator.specs import check
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -95,3 +95,33 @@ def test_lot_curves_never_share_colour_and_line_style_with_a_limit_line():
         limits |= {to_hex(ln.get_color()) for ln in ax.lines
                    if len(ln.get_xdata()) == 2}  # full-width limit lines (axhline)
         assert lots and not lots & limits
+
+
+def test_mix_shares_shows_every_lot_and_every_limit():
+    lots = read_profile(DEMO / "lots.csv", basis="fatty-acid")
+    result = m.least_cost_mix(lots, m.mix_constraints("en14214", max_cfpp_C=-5), demand_t=1500)
+    fig = mix_shares(result)
+    left, right = fig.axes
+    assert [t.get_text() for t in left.get_yticklabels()] == list(result.lots["lot"])
+    assert [t.get_text() for t in right.get_yticklabels()] == list(result.constraints["constraint"])
+    assert left.get_xlabel() == "share of the fuel [% by mass]"
+    assert right.get_xlabel() == "headroom to the limit [stated errors]"
+    assert "mix -5  (binding)" in _texts(fig)
+    assert fig._suptitle.get_text().startswith("Least-cost mix: ")
+
+
+def test_mix_shares_marks_missed_limits_of_an_infeasible_case():
+    lots = read_profile(DEMO / "lots.csv", basis="fatty-acid")
+    result = m.least_cost_mix(lots, m.mix_constraints("en14214", max_cfpp_C=-15))
+    fig = mix_shares(result)
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
+    assert "missed" in labels
+    assert fig._suptitle.get_text() == "No mix meets every limit: least-violating mix"
+
+
+def test_blend_report_cells_never_print_minus_zero():
+    # found by review: tallow B20 cloud point printed as "-0.0 ± 5.5"; no signed zero
+    # (common practice)
+    from estimator.report.blend_sections import _pm_column
+
+    assert _pm_column([-0.04, 2.26], [5.5, 0.0], 1) == ["0.0 ± 5.5", "2.3"]
