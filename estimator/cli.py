@@ -101,6 +101,9 @@ def predict(inputs, oils, basis, sum_tolerance, methods, temperatures, models, q
         footer = (f"From the fitted model file(s): {', '.join(dict.fromkeys(fitted))}.\n"
                   + footer)
     if output:
+        from estimator.cli_compare import refuse_unwritable_table
+
+        refuse_unwritable_table(output)
         if not quiet:
             outside = int((~result.long["in_domain"].astype(bool)).sum())
             click.echo(f"estimated {result.long['property'].nunique()} properties for "

@@ -51,6 +51,17 @@ def quiet_option(func):
                              "stderr.")(func)
 
 
+def refuse_unwritable_table(output: str | None) -> None:
+    """Refuse an output table suffix before any answer is printed (same words as the writer)."""
+    from estimator.report.tables import TABLE_SUFFIXES
+
+    if output and Path(output).suffix.lower() not in TABLE_SUFFIXES:
+        from estimator.errors import UsageError
+
+        raise UsageError(f"cannot write {Path(output).name!r}: use an output file ending in "
+                         f"{', '.join(TABLE_SUFFIXES)}")
+
+
 def model_line(model_props: dict | None) -> str:
     """One line naming the properties a lab model gave ('' without models)."""
     if not model_props:
@@ -147,6 +158,7 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
     if from_model:
         footer = from_model + "\n" + footer
     if output:
+        refuse_unwritable_table(output)
         if not quiet:
             _print_check_summary(table, failed)
         frame, sheets = _with_caution(table, output)

@@ -42,6 +42,7 @@ def test_report_command_writes_one_report_with_every_part(tmp_path):
     data["lab"]["properties"] = ["cetane_number"]  # one property keeps the test quick
     for part, key in (("lots", "file"), ("blend", "diesel"), ("lab", "file")):
         data[part][key] = str(DEMO / data[part][key])
+    data["costs"] = str(DEMO / data["costs"])
     scenario = tmp_path / "scenario.json"
     scenario.write_text(json.dumps(data))
     out = tmp_path / "out"
