@@ -147,11 +147,13 @@ def _check_keys(obj: dict, part: str, label: str) -> None:
         )
 
 
-def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
+def run_scenario(scenario: Scenario, *, progress=None, models=()) -> ScenarioResult:
     """Run every part of a scenario and return the results (no output files written; with
     ``"model": "lab"`` the fitted models pass through a temporary model file).
 
     ``progress`` is an optional callable taking a short text, called before each part.
+    ``models``: model files (paths as given, e.g. on the command line) added to the
+    scenario's ``model`` key.
     """
     from estimator.comparison import compare_lots
     from estimator.profiles.io import read_profile
@@ -160,11 +162,11 @@ def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
     say = progress or (lambda text: None)
     with tempfile.TemporaryDirectory(prefix="fame-scenario-") as tmp:
         return _run(scenario, say, Path(tmp), compare_lots, read_profile,
-                    normalise_climate_class)
+                    normalise_climate_class, [str(m) for m in models])
 
 
 def _run(scenario: Scenario, say, tmp: Path, compare_lots, read_profile,
-         normalise_climate_class) -> ScenarioResult:
+         normalise_climate_class, extra_models: list[str]) -> ScenarioResult:
     lots = scenario.lots
     costs = None
     if scenario.costs is not None:
@@ -182,7 +184,7 @@ def _run(scenario: Scenario, say, tmp: Path, compare_lots, read_profile,
         with _part(scenario, "lab"):
             _run_lab(scenario, result)
         models.append(str(_lab_model_file(scenario, result, tmp)))
-    models += [str(scenario.resolve(m)) for m in scenario.model if m != "lab"]
+    models += [str(scenario.resolve(m)) for m in scenario.model if m != "lab"] + extra_models
     say("comparing the lots")
     result.comparison = compare_lots(
         profile,
