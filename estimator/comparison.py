@@ -124,6 +124,15 @@ def methods_used(estimates: pd.DataFrame) -> pd.DataFrame:
                 "note": "replaces the published estimate in verdicts and ranking",
             })
             continue
+        if prop in specs.MEASURED_PROPERTIES:
+            rows.append({
+                "property": prop, "method": name, "unit": "wt %",
+                "stated_error": "method repeatability", "provenance": "MEMORY",
+                "fitted_domain": "measured on the sample",
+                "citation": "EN 14103 (internal-standard GC), limit EN 14214:2012+A2:2019",
+                "note": "measured, no correlation; band: repeatability about 1 % (m/m)",
+            })
+            continue
         m = get_method(prop, name)
         stated = "none published" if m.error is None else f"{m.error_kind} {m.error:g}"
         rows.append({
@@ -222,7 +231,7 @@ def compare_lots(
                             dtype=object)
         ranked[f"verdict_{spec}"] = text
     table = table.set_index("sample").reindex(profile.samples)
-    for prop in KEY_PROPERTIES:
+    for prop in (*KEY_PROPERTIES, *specs.MEASURED_PROPERTIES):  # measured: only if given
         if prop in table.columns:
             ranked[prop] = table[prop].to_numpy(dtype=float)
             ranked[f"{prop}_error"] = table[f"{prop}_error"].to_numpy(dtype=float)
@@ -386,13 +395,15 @@ def long_estimates(profile, samples: Sequence[str] | None = None, *,
     ``profile`` is a Profile, or an array of FAME mass % with ``samples``. The long
     table of :func:`estimator.properties.predict.estimate` (text columns as plain
     strings), with the rows of each lab model file in ``models`` added (method
-    ``fit:<candidate>``, see :func:`estimator.refit.apply.apply_models`) and
-    ``linolenic_wt_pct`` and ``pufa4_wt_pct`` appended.
+    ``fit:<candidate>``, see :func:`estimator.refit.apply.apply_models`),
+    ``linolenic_wt_pct`` and ``pufa4_wt_pct`` appended, and a Profile's measured
+    values (EN 14103 ester content) when given.
     """
     from types import SimpleNamespace
 
     from estimator.properties.predict import estimate
 
+    samples_given = samples
     if samples is None:
         w, samples = profile.wt_pct, list(profile.samples)
     else:
@@ -405,7 +416,12 @@ def long_estimates(profile, samples: Sequence[str] | None = None, *,
                                  predicted)
     exact = specs.composition_estimates(w, samples)
     predicted = predicted.astype({"property": str, "method": str, "unit": str, "note": str})
-    return pd.concat([predicted, exact], ignore_index=True)
+    parts = [predicted, exact]
+    if samples_given is None:
+        measured = specs.measured_estimates(profile.metadata, samples)
+        if len(measured):
+            parts.append(measured)
+    return pd.concat(parts, ignore_index=True)
 
 
 def decision_rows(long: pd.DataFrame) -> pd.DataFrame:

@@ -295,6 +295,7 @@ _PROPERTY_HEADERS = {
     "kin_viscosity_40C_mm2_s": "viscosity 40 °C [mm²/s]",
     "linolenic_wt_pct": "linolenic ester [wt %]",
     "pufa4_wt_pct": "esters with ≥ 4 double bonds [wt %]",
+    "ester_content_wt_pct": "ester content, EN 14103 [% (m/m)]",
 }
 
 
@@ -337,7 +338,7 @@ def ranking_section(comparison) -> Section:
         "feedstock cost [per t fuel]": ",.0f", "cost [per t fuel]": ",.0f",
         "available [t]": ",.0f"})
     props = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
-    for prop in KEY_PROPERTIES:
+    for prop in (*KEY_PROPERTIES, "ester_content_wt_pct"):  # the last only when measured
         if prop in r.columns:
             props[_PROPERTY_HEADERS.get(prop, prop)] = [
                 plus_minus(v, e) for v, e in zip(r[prop], r[f"{prop}_error"])]
