@@ -4,9 +4,10 @@ A target is a limit a blend must meet: a cold-flow maximum the blender chooses
 (``--max-cfpp``, ``--max-cloud-point``), the CFPP (and arctic cloud point) of an
 EN 590 climate class, or the property limits of a blend specification (EN 590 up
 to B7, ASTM D7467 for B6-B20). :func:`highest_levels` finds, for each FAME, the
-highest level meeting each target by root finding (``scipy.optimize.brentq``) on
-the continuous blend curve of :mod:`estimator.blending`, and also with the
-stated error taken against the blend.
+highest level meeting each target by a vectorised bisection (NumPy, every FAME at
+once) on the continuous blend curve of :mod:`estimator.blending`, and also with
+the stated error taken against the blend. Every "none" or B0 says why: the
+limiting target and whether the diesel alone already misses it.
 """
 
 from __future__ import annotations
@@ -55,28 +56,36 @@ class Target:
     source: str = ""
 
 
-def _margin(fame_i: FameComponent, diesel: Diesel, target: Target, with_error: bool):
-    prop = target.property
-    key = (prop, BLEND_METHODS[prop][0])
-    sign = 1.0 if target.kind == "max" else -1.0
-
-    def g(level: float) -> float:
-        v, e = blend_arrays(fame_i, diesel, [level], only=prop)[key]
-        value = float(v[0, 0]) + (sign * float(e[0, 0]) if with_error else 0.0)
-        return sign * (value - target.limit)
-
-    return g
-
-
-#: Grid on which the first crossing of a target is bracketed before brentq [% v/v].
+#: Grid on which the first crossing of a target is bracketed before bisection [% v/v].
 ROOT_GRID_PCT_V = np.linspace(0.0, 100.0, 101)
+#: Bisection steps inside a 1 % v/v bracket: 2**-20 % v/v, far below any reported digit.
+BISECTION_STEPS = 20
 
 
-def _crossings(values: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Per row: index of the first grid point with margin > 0 (-1 if none), and NaN rows."""
-    bad = values > 0
-    first = np.where(bad.any(axis=1), bad.argmax(axis=1), -1)
-    return first, np.isnan(values).any(axis=1)
+def _margins(fame: FameComponent, diesel: Diesel, t: Target, levels: np.ndarray,
+             with_error) -> np.ndarray:
+    """``sign * (value - limit)`` (> 0 misses) on levels (L,) or one row per sample (n, L);
+    ``with_error`` (bool, or one per sample) takes the stated error against the blend."""
+    v, e = blend_arrays(fame, diesel, levels, only=t.property)[t.property,
+                                                                 BLEND_METHODS[t.property][0]]
+    sign = 1.0 if t.kind == "max" else -1.0
+    use = np.asarray(with_error, dtype=bool)
+    use = use[:, None] if use.ndim == 1 else use
+    return sign * (v + np.where(use, sign * e, 0.0) - t.limit)
+
+
+def _bisect(fame: FameComponent, diesel: Diesel, t: Target, lo: np.ndarray, hi: np.ndarray,
+            with_error: np.ndarray) -> np.ndarray:
+    """Highest level meeting ``t`` inside [lo, hi] per entry (met at lo, missed at hi):
+    bisection on every entry at once, in NumPy (no per-sample root finder)."""
+    lo, hi = lo.astype(float).copy(), hi.astype(float).copy()
+    for _ in range(BISECTION_STEPS):
+        mid = 0.5 * (lo + hi)
+        miss = _margins(fame, diesel, t, mid[:, None], with_error)[:, 0]
+        missed = ~(miss <= 0)  # NaN counts as missed
+        hi = np.where(missed, mid, hi)
+        lo = np.where(missed, lo, mid)
+    return lo
 
 
 def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target]) -> pd.DataFrame:
@@ -84,59 +93,98 @@ def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target
 
     The level is the largest B such that the blend meets the target at every level
     from B0 up to B: the margin is evaluated on a 1 % v/v grid for every sample at
-    once, and the first sign change is refined by :func:`scipy.optimize.brentq` on
-    the continuous blend curve (default rule). ``highest_level_with_error_pct_v``
+    once, and the first sign change is refined by bisection on the continuous blend
+    curve (default rule), all samples together. ``highest_level_with_error_pct_v``
     does the same with the stated error taken against the blend. A specification
     group's level is the lowest of its targets, capped at the FAME content that
-    specification allows; NaN when no level meets it.
-    """
-    from scipy.optimize import brentq
+    specification allows; NaN when no level meets it. EN 590 admits only FAME that
+    meets EN 14214 (EN 590:2022 clause on FAME content, standards.md 3.3): a FAME
+    failing a limit no treatment fixes gets no EN 590 level.
 
+    Every row says why in ``reason`` when its level is none or B0: the limiting
+    target, and whether the diesel alone already misses it (``diesel_misses``).
+    """
     grid = ROOT_GRID_PCT_V
-    props = list(dict.fromkeys(t.property for t in targets))
-    curves = {}
-    for prop in props:
-        curves.update(blend_arrays(fame, diesel, grid, only=prop))
     results: dict[tuple[int, bool], np.ndarray] = {}
     hows: dict[int, np.ndarray] = {}
+    curves: dict[str, tuple[np.ndarray, np.ndarray]] = {}
     for k, t in enumerate(targets):
-        v, e = curves[t.property, BLEND_METHODS[t.property][0]]
+        if t.property not in curves:
+            curves[t.property] = blend_arrays(fame, diesel, grid, only=t.property)[
+                t.property, BLEND_METHODS[t.property][0]]
+        v, e = curves[t.property]
         sign = 1.0 if t.kind == "max" else -1.0
+        pending = []  # (sample rows, with_error, bracket index) to refine by bisection
         for with_error in (False, True):
             margin = sign * (v + (sign * e if with_error else 0.0) - t.limit)
-            first, nan = _crossings(margin)
+            nan = np.isnan(margin)
+            stop = (margin > 0) | nan
+            first = np.where(stop.any(axis=1), stop.argmax(axis=1), -1)
+            rows = np.arange(len(first))
+            at = np.clip(first, 0, None)
+            stop_nan = nan[rows, at] & (first >= 0)
             level = np.where(first < 0, grid[-1], np.nan)
             how = np.where(first < 0, "met at every level", "root of the blend curve")
-            how = np.where(first == 0, "the diesel alone misses it", how)
-            for i in np.flatnonzero(first > 0):
-                g = _margin(_take(fame, int(i)), diesel, t, with_error)
-                j = int(first[i])
-                level[i] = brentq(g, grid[j - 1], grid[j], xtol=1e-6)
-            level[nan] = np.nan
-            how = np.where(nan, "not computable (a component value is missing)", how)
+            how = np.where((first == 0) & ~stop_nan, "the diesel alone misses it", how)
+            how = np.where((first == 0) & stop_nan,
+                           "not computable (a component value is missing)", how)
+            partial = (first > 0) & stop_nan
+            level = np.where(partial, grid[np.clip(first - 1, 0, None)], level)
+            how = np.where(partial, "met up to the last level computable (a component value "
+                           "is missing beyond)", how)
+            root = np.flatnonzero((first > 0) & ~stop_nan)
+            pending.append((root, np.full(len(root), with_error), first[root]))
             results[k, with_error] = level
             if not with_error:
                 hows[k] = how
-    rows = []
+        idx = np.concatenate([p[0] for p in pending])
+        if len(idx):
+            case = np.concatenate([p[1] for p in pending])
+            j = np.concatenate([p[2] for p in pending])
+            found = _bisect(_take(fame, idx), diesel, t, grid[j - 1], grid[j], case)
+            for with_error, (root, _, _) in zip((False, True), pending):
+                part = found[:len(root)]
+                found = found[len(root):]
+                results[k, with_error][root] = part
+    failures = fame.en14214_failures or ("",) * len(fame.samples)
+    rows_out = []
     for i, sample in enumerate(fame.samples):
         groups: dict[str, list] = {}
         for k, t in enumerate(targets):
+            d_value = diesel.value(t.property)
+            d_misses = bool(np.isfinite(d_value) and (
+                d_value > t.limit if t.kind == "max" else d_value < t.limit))
+            level = float(results[k, False][i])
             row = {
                 "sample": sample, "group": t.group, "target": t.label, "property": t.property,
                 "kind": t.kind, "limit": t.limit,
-                "highest_level_pct_v": float(results[k, False][i]),
+                "highest_level_pct_v": level,
                 "highest_level_with_error_pct_v": float(results[k, True][i]),
-                "how": str(hows[k][i]), "source": t.source,
+                "how": str(hows[k][i]), "diesel_value": d_value, "diesel_misses": d_misses,
+                "reason": _reason(t, level, d_misses, d_value, str(hows[k][i])),
+                "source": t.source,
             }
-            rows.append(row)
+            rows_out.append(row)
             groups.setdefault(t.group, []).append((t, row))
         for group, members in groups.items():
             if group != "target":
-                rows.append(_group_row(sample, group, members))
-    return pd.DataFrame(rows)
+                rows_out.append(_group_row(sample, group, members,
+                                           failures[i] if group == "en590" else ""))
+    return pd.DataFrame(rows_out)
 
 
-def _group_row(sample: str, group: str, members: list) -> dict:
+def _reason(t: Target, level: float, diesel_misses: bool, diesel_value: float, how: str) -> str:
+    """Why a target gives no level or B0 ('' otherwise)."""
+    if np.isfinite(level) and level >= 0.05:
+        return ""
+    if diesel_misses:
+        return f"diesel alone misses {t.label} ({diesel_value:g})"
+    if how.startswith("not computable"):
+        return f"{t.label} not computable (a component value is missing)"
+    return f"{t.label} missed from the first FAME added"
+
+
+def _group_row(sample: str, group: str, members: list, fame_failures: str = "") -> dict:
     t0 = members[0][0]
     cap, floor = t0.max_level_pct_v, t0.min_level_pct_v
 
@@ -152,26 +200,41 @@ def _group_row(sample: str, group: str, members: list) -> dict:
 
     raw = lowest("highest_level_pct_v")
     lvl, lvl_e = capped(raw), capped(lowest("highest_level_with_error_pct_v"))
-    limiting = [r["target"] for _, r in members
-                if np.isnan(r["highest_level_pct_v"]) or r["highest_level_pct_v"] == raw]
-    if np.isnan(lvl):
+    limiting_rows = [r for _, r in members
+                     if np.isnan(r["highest_level_pct_v"]) or r["highest_level_pct_v"] == raw]
+    limiting = [r["target"] for r in limiting_rows]
+    diesel_misses = any(r["diesel_misses"] for r in limiting_rows)
+    name = _SPEC_NAMES.get(group, group)
+    if fame_failures:
+        lvl = lvl_e = np.nan
+        how = (f"FAME fails EN 14214 ({fame_failures}); {name} admits only FAME meeting "
+               "EN 14214")
+        reason = f"FAME fails EN 14214 ({fame_failures})"
+    elif np.isnan(lvl):
         how = f"no level from B{floor:g} to B{cap:g} meets {', '.join(limiting)}"
+        reason = "; ".join(r["reason"] for r in limiting_rows if r["reason"]) or (
+            f"{', '.join(limiting)} met only below B{floor:g}, the least {name} covers")
     elif lvl == cap:
         how = f"capped at the B{cap:g} the specification allows"
+        reason = ""
     else:
         how = f"limited by {', '.join(limiting)}"
+        reason = ("; ".join(r["reason"] for r in limiting_rows if r["reason"])
+                  if lvl < 0.05 else "")
     return {
-        "sample": sample, "group": group, "target": f"{_SPEC_NAMES.get(group, group)} "
-        "(all its limits)", "property": "all", "kind": "", "limit": np.nan,
+        "sample": sample, "group": group, "target": f"{name} (all its limits)",
+        "property": "all", "kind": "", "limit": np.nan,
         "highest_level_pct_v": lvl, "highest_level_with_error_pct_v": lvl_e, "how": how,
+        "diesel_value": np.nan, "diesel_misses": diesel_misses, "reason": reason,
         "source": t0.source,
     }
 
 
-def _take(fame: FameComponent, i: int) -> FameComponent:
-    sl = slice(i, i + 1)
+def _take(fame: FameComponent, rows) -> FameComponent:
+    sl = np.atleast_1d(np.asarray(rows, dtype=int))
     return FameComponent(
-        samples=fame.samples[sl], values={k: v[sl] for k, v in fame.values.items()},
+        samples=[fame.samples[i] for i in sl],
+        values={k: v[sl] for k, v in fame.values.items()},
         errors={k: v[sl] for k, v in fame.errors.items()},
         methods={k: v[sl] for k, v in fame.methods.items()},
         in_domain={k: v[sl] for k, v in fame.in_domain.items()},
@@ -277,7 +340,9 @@ def summary_table(levels: pd.DataFrame) -> pd.DataFrame:
 
     The bracket is the highest level with the stated error taken against the blend
     (the cautious answer); one column per user target and per specification (all of
-    its limits together, capped at the blend range the specification covers).
+    its limits together, capped at the blend range the specification covers). A
+    cell that is "none" or B0 names the limiting target and whether the diesel
+    alone misses it; the EN 590 cell of a FAME failing EN 14214 says so instead.
     """
     shown = levels[(levels["group"] == "target") | (levels["property"] == "all")]
     cells: dict[str, dict[str, str]] = {}
@@ -287,14 +352,19 @@ def summary_table(levels: pd.DataFrame) -> pd.DataFrame:
         if what not in order:
             order.append(what)
         level, cautious = row.highest_level_pct_v, row.highest_level_with_error_pct_v
-        if np.isnan(level):
-            text = "none"
+        reason = str(getattr(row, "reason", "") or "")
+        if reason.startswith("FAME fails EN 14214"):
+            text = reason
+        elif np.isnan(level):
+            text = "none" + (f": {reason}" if reason else "")
         else:
             text = f"B{level:.1f}"
             if np.isnan(cautious):
                 text += " (none)"
             elif abs(cautious - level) > 0.05:
                 text += f" (B{cautious:.1f})"
+            if reason:
+                text += f": {reason}"
         cells.setdefault(str(row.sample), {})[what] = text
     table = pd.DataFrame.from_dict(cells, orient="index").reindex(columns=order)
     table.insert(0, "sample", table.index)

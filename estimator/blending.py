@@ -62,15 +62,22 @@ quadrature to a mixing-rule error that is zero at B0 and B100 and largest at B50
 
 from __future__ import annotations
 
-import json
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
-from pathlib import Path
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
 
-from estimator.errors import InputFileError, UnknownNameError, UsageError
+from estimator.diesel import (
+    DIESEL_MEAN_MOLAR_MASS_G_MOL,
+    DIESEL_PROPERTIES,
+    Diesel,
+    diesel_names,
+    load_diesel,
+    needed_properties,
+    read_diesel,
+)
+from estimator.errors import UnknownNameError, UsageError
 from estimator.properties.cold_flow import (
     ZERO_CELSIUS_K,
     ideal_solubility_temperature_C,
@@ -78,11 +85,11 @@ from estimator.properties.cold_flow import (
     saturated_mole_fractions,
 )
 from estimator.properties.descriptors import mean_molar_mass
-from estimator.tables import load_table
 
 __all__ = [
     "BLEND_METHODS",
     "BLEND_PROPERTIES",
+    "DIESEL_MEAN_MOLAR_MASS_G_MOL",
     "DIESEL_PROPERTIES",
     "Diesel",
     "FameComponent",
@@ -93,25 +100,11 @@ __all__ = [
     "diesel_names",
     "fame_component",
     "load_diesel",
+    "needed_properties",
     "parse_levels",
     "read_diesel",
 ]
 
-#: Properties a diesel description must give, with units.
-DIESEL_PROPERTIES = {
-    "density_15C_kg_m3": "kg/m3",
-    "kin_viscosity_40C_mm2_s": "mm2/s",
-    "cetane_number": "1",
-    "hhv_MJ_kg": "MJ/kg",
-    "lhv_MJ_kg": "MJ/kg",
-    "cloud_point_C": "°C",
-    "cfpp_C": "°C",
-}
-#: Optional keys of a diesel description besides ``<property>_error``.
-DIESEL_OPTIONAL = {"name": None, "mean_molar_mass_g_mol": 200.0}
-#: Mean molar mass of diesel used for mole fractions [g/mol] (MEMORY / common practice:
-#: middle distillate averages about C14-C15; n-tetradecane is 198 g/mol).
-DIESEL_MEAN_MOLAR_MASS_G_MOL = 200.0
 #: Effective enthalpy of fusion of the diesel's n-paraffin wax [kJ/mol]. MEMORY,
 #: approximate: n-alkanes C18-C24 lie roughly between 45 and 75 kJ/mol.
 WAX_ENTHALPY_FUSION_KJ_MOL = 60.0
@@ -169,138 +162,6 @@ _NOTES = {
 }
 
 
-# ---------------------------------------------------------------- diesel
-@dataclass(frozen=True)
-class Diesel:
-    """A diesel described by its own measured or typical properties."""
-
-    name: str
-    values: Mapping[str, float]
-    errors: Mapping[str, float] = field(default_factory=dict)
-    mean_molar_mass_g_mol: float = DIESEL_MEAN_MOLAR_MASS_G_MOL
-    source: str = ""
-
-    def value(self, prop: str) -> float:
-        """The diesel's value of one property."""
-        return float(self.values[prop])
-
-    def error(self, prop: str) -> float:
-        """The stated error of one property (0 when the description gives none)."""
-        return float(self.errors.get(prop, 0.0))
-
-
-def diesel_names() -> list[str]:
-    """Names of the built-in typical diesels (``estimator/tables/diesels.csv``)."""
-    return list(dict.fromkeys(load_table("diesels")["diesel"]))
-
-
-def _builtin_diesel(name: str) -> Diesel:
-    table = load_table("diesels")
-    rows = table[table["diesel"] == name]
-    values = dict(zip(rows["property"], rows["value"].astype(float), strict=True))
-    return _make_diesel(values, name, f"built-in typical diesel {name!r} (diesels.csv)", name)
-
-
-def load_diesel(spec: str) -> Diesel:
-    """A diesel from a file path (.json or one-row .csv) or a built-in name.
-
-    Examples
-    --------
-    >>> d = load_diesel("en590-winter")
-    >>> d.value("cfpp_C"), d.value("cloud_point_C")
-    (-15.0, -5.0)
-    """
-    path = Path(spec)
-    if path.suffix.lower() in (".json", ".csv") or path.exists():
-        return read_diesel(path)
-    names = diesel_names()
-    key = spec.strip().lower()
-    if key in names:
-        return _builtin_diesel(key)
-    raise UnknownNameError(
-        f"unknown diesel {spec!r}; use a built-in name ({', '.join(names)}) or a .json/.csv file"
-    )
-
-
-def read_diesel(path: str | Path) -> Diesel:
-    """Read a diesel description: a JSON object or a one-row CSV keyed by property name.
-
-    Needed keys: those of :data:`DIESEL_PROPERTIES`; optional: ``name``,
-    ``mean_molar_mass_g_mol`` and ``<property>_error``. The file is only read.
-    """
-    path = Path(path)
-    label = path.name
-    if not path.exists():
-        raise InputFileError(f"{label}: no such file")
-    suffix = path.suffix.lower()
-    if suffix == ".json":
-        try:
-            raw = json.loads(path.read_text(encoding="utf-8"))
-        except (UnicodeDecodeError, json.JSONDecodeError) as exc:
-            raise InputFileError(f"{label}: not valid JSON ({exc})") from None
-        if not isinstance(raw, dict):
-            raise InputFileError(f"{label}: expected one JSON object of property: value")
-    elif suffix == ".csv":
-        try:
-            frame = pd.read_csv(path, keep_default_na=False, na_values=[""])
-        except (UnicodeDecodeError, pd.errors.ParserError, pd.errors.EmptyDataError) as exc:
-            raise InputFileError(f"{label}: cannot read as CSV ({exc})") from None
-        if len(frame) != 1:
-            raise InputFileError(f"{label}: a diesel CSV has one data row, found {len(frame)}")
-        raw = {str(k).strip(): v for k, v in frame.iloc[0].items()}
-    else:
-        raise InputFileError(f"{label}: a diesel description is a .json or one-row .csv file")
-    allowed = set(DIESEL_PROPERTIES) | set(DIESEL_OPTIONAL) | {
-        f"{p}_error" for p in DIESEL_PROPERTIES
-    }
-    unknown = [k for k in raw if k not in allowed]
-    if unknown:
-        raise InputFileError(
-            f"{label}: unknown key {unknown[0]!r}; a diesel file takes "
-            f"{', '.join(DIESEL_PROPERTIES)}, optional name, mean_molar_mass_g_mol, "
-            "<property>_error"
-        )
-    values: dict[str, float] = {}
-    for key, val in raw.items():
-        if key == "name":
-            continue
-        try:
-            num = float(val)
-        except (TypeError, ValueError):
-            raise InputFileError(f"{label}: key {key!r}: not a number: {val!r}") from None
-        if not np.isfinite(num):
-            raise InputFileError(f"{label}: key {key!r}: not a finite number: {val!r}")
-        values[key] = num
-    name = str(raw.get("name") or path.stem)
-    return _make_diesel(values, name, label, label)
-
-
-def _make_diesel(values: dict[str, float], name: str, source: str, label: str) -> Diesel:
-    missing = [p for p in DIESEL_PROPERTIES if p not in values]
-    if missing:
-        raise InputFileError(
-            f"{label}: diesel description lacks {missing[0]!r} "
-            f"[{DIESEL_PROPERTIES[missing[0]]}]; it needs {', '.join(DIESEL_PROPERTIES)}"
-        )
-    for prop in ("density_15C_kg_m3", "kin_viscosity_40C_mm2_s", "lhv_MJ_kg", "hhv_MJ_kg"):
-        if values[prop] <= 0:
-            raise InputFileError(f"{label}: {prop!r} must be positive, got {values[prop]:g}")
-    mm = values.get("mean_molar_mass_g_mol", DIESEL_MEAN_MOLAR_MASS_G_MOL)
-    if mm <= 0:
-        raise InputFileError(f"{label}: 'mean_molar_mass_g_mol' must be positive, got {mm:g}")
-    errors = {p: values[f"{p}_error"] for p in DIESEL_PROPERTIES if f"{p}_error" in values}
-    bad = [p for p, e in errors.items() if e < 0]
-    if bad:
-        raise InputFileError(f"{label}: '{bad[0]}_error' must not be negative")
-    return Diesel(
-        name=name,
-        values={p: values[p] for p in DIESEL_PROPERTIES},
-        errors=errors,
-        mean_molar_mass_g_mol=mm,
-        source=source,
-    )
-
-
 # ---------------------------------------------------------------- neat FAME
 @dataclass(frozen=True)
 class FameComponent:
@@ -315,6 +176,11 @@ class FameComponent:
     saturated_mole_fraction: np.ndarray  # (n, n_esters), in the neat ester liquid
     melting_point_C: np.ndarray  # (n_esters,)
     enthalpy_fusion_kJ_mol: np.ndarray  # (n_esters,)
+    #: Per sample: the EN 14214 limits the neat FAME fails that no treatment fixes
+    #: ("" when it conforms or was not checked); EN 590 admits only conforming FAME.
+    en14214_failures: tuple[str, ...] = ()
+    #: Per sample: EN 14214 failures a treatment fixes (e.g. an antioxidant dose).
+    en14214_fixable: tuple[str, ...] = ()
 
     def __len__(self) -> int:
         return len(self.samples)
@@ -323,8 +189,10 @@ class FameComponent:
 _FAME_PROPERTIES = tuple(p for p in DIESEL_PROPERTIES)
 
 
-def fame_component(wt_pct: np.ndarray, samples: Sequence[str]) -> FameComponent:
-    """Estimate the neat-FAME properties a blend needs (default methods of ``predict``).
+def fame_component(
+    wt_pct: np.ndarray, samples: Sequence[str], *, long: pd.DataFrame | None = None
+) -> FameComponent:
+    """Estimate the neat-FAME properties a blend needs and check the FAME on EN 14214.
 
     Parameters
     ----------
@@ -332,27 +200,49 @@ def fame_component(wt_pct: np.ndarray, samples: Sequence[str]) -> FameComponent:
         FAME mass %, species-table order. [wt %]
     samples : sequence of str
         Sample ids.
+    long : DataFrame, optional
+        Long estimates for these samples (default: the default methods of
+        ``predict``, :func:`estimator.comparison.long_estimates`); a property with a
+        fitted model (``fit:`` method, from ``--model``) is taken from the model.
     """
-    from estimator.properties.predict import estimate
+    from estimator.comparison import decision_rows, long_estimates, unfixable_failures
 
     w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
     samples = [str(s) for s in samples]
-    long = estimate(w, samples, methods="default")
-    long = long[long["property"].isin(_FAME_PROPERTIES)]
+    if long is None:
+        long = long_estimates(w, samples)
+    long = decision_rows(long)
+    unfixable, fixable = unfixable_failures(long, samples)
+    prop_col = long["property"].astype(str).to_numpy()
+    row_of = {s: i for i, s in enumerate(samples)}
+    sample_col = long["sample"].astype(str).to_numpy()
+    value_col = long["value"].to_numpy(dtype=float)
+    error_col = long["error"].to_numpy(dtype=float)
+    method_col = long["method"].astype(str).to_numpy()
+    domain_col = long["in_domain"].fillna(False).to_numpy(dtype=bool)
     values, errors, methods, domain = {}, {}, {}, {}
     for prop in _FAME_PROPERTIES:
-        part = long[long["property"] == prop].set_index("sample").reindex(samples)
-        if part["value"].isna().all() and prop not in set(long["property"]):
+        pick = np.flatnonzero(prop_col == prop)
+        if not len(pick):
             raise UnknownNameError(f"the property model gives no {prop!r}; cannot blend")
-        values[prop] = part["value"].to_numpy(dtype=float)
-        errors[prop] = np.nan_to_num(part["error"].to_numpy(dtype=float))
-        methods[prop] = part["method"].astype(str).to_numpy()
-        domain[prop] = part["in_domain"].fillna(False).to_numpy(dtype=bool)
+        at = np.array([row_of.get(s, -1) for s in sample_col[pick]])
+        keep = at >= 0
+        pick, at = pick[keep], at[keep]
+        values[prop] = np.full(len(samples), np.nan)
+        values[prop][at] = value_col[pick]
+        errors[prop] = np.zeros(len(samples))
+        errors[prop][at] = np.nan_to_num(error_col[pick])
+        methods[prop] = np.full(len(samples), "", dtype=object)
+        methods[prop][at] = method_col[pick]
+        methods[prop] = methods[prop].astype(str)
+        domain[prop] = np.zeros(len(samples), dtype=bool)
+        domain[prop][at] = domain_col[pick]
     x_sat, tm, dh = saturated_mole_fractions(w)
     return FameComponent(
         samples=samples, values=values, errors=errors, methods=methods, in_domain=domain,
         mean_molar_mass_g_mol=mean_molar_mass(w), saturated_mole_fraction=x_sat,
         melting_point_C=tm, enthalpy_fusion_kJ_mol=dh,
+        en14214_failures=tuple(unfixable), en14214_fixable=tuple(fixable),
     )
 
 
@@ -454,14 +344,17 @@ def blend_arrays(
 
     ``methods='default'`` computes the first rule of each property in
     :data:`BLEND_METHODS`, ``'all'`` every rule; ``only`` restricts the work to one
-    property (used by the root finding). Vectorised over samples and levels.
+    property (used by the level search). Vectorised over samples and levels;
+    ``levels_pct_v`` is one grid for every sample (L,) or one row per sample (n, L).
+    A property the diesel description leaves out is NaN at every level.
     """
     if methods not in ("default", "all"):
         raise UnknownNameError(f"unknown methods choice {methods!r}; use default or all")
     if only is not None and only not in BLEND_PROPERTIES:
         raise UnknownNameError(
             f"unknown blend property {only!r}; valid: {', '.join(BLEND_PROPERTIES)}")
-    lv = np.atleast_1d(np.asarray(levels_pct_v, dtype=float))[None, :]
+    lv = np.atleast_1d(np.asarray(levels_pct_v, dtype=float))
+    lv = lv[None, :] if lv.ndim == 1 else lv  # (n, L): a level row per sample
     col = {p: v[:, None] for p, v in fame.values.items()}
     err = {p: e[:, None] for p, e in fame.errors.items()}
     d = {p: diesel.value(p) for p in DIESEL_PROPERTIES}
@@ -515,6 +408,13 @@ def blend_arrays(
     if want("cloud_point_C") or (every and want("cfpp_C")):
         cp_ideal, cp_ideal_err = _cloud_ideal(fame, diesel, x, phi, rule)
         cp_kay, cp_kay_err = linear("cloud_point_C", phi)
+        # A FAME without saturated esters has no cloud point estimate; its esters
+        # crystallise far below a diesel's (methyl oleate melts near -20 °C, from
+        # memory), so the blend is taken to cloud like the diesel, with no credit for
+        # dilution, up to B100 (NaN: the neat estimate is missing).
+        unknown = np.isnan(col["cloud_point_C"]) & (phi < 1.0)
+        cp_kay = np.where(unknown, d["cloud_point_C"], cp_kay)
+        cp_kay_err = np.where(unknown, de["cloud_point_C"], cp_kay_err)
         # Conservative default: ideal solubility lets the FAME dilute the diesel's wax and
         # put a blend below both neat cloud points; the linear rule floors it there.
         kay_controls = ~(cp_ideal >= cp_kay)

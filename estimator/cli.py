@@ -68,9 +68,12 @@ def _temperatures(ctx, param, value: str | None) -> tuple[float, ...]:
 @click.option("--model", "models", multiple=True, type=click.Path(dir_okay=False),
               metavar="MODEL.json", help="Use a model fitted with 'fame-estimator fit' "
               "(repeatable).")
-@click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json).")
+@click.option("--quiet", "-q", is_flag=True,
+              help="With -o, print no answer on stdout (the file written is still named).")
+@click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json); "
+              "a one-line answer is still printed.")
 def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
-            methods, temperatures, models, output) -> None:
+            methods, temperatures, models, quiet, output) -> None:
     """Fuel-property estimates and composition descriptors for each sample.
 
     Each estimate comes from a published correlation (see 'fame-estimator methods');
@@ -108,6 +111,14 @@ def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
         footer = (f"From the fitted model file(s): {', '.join(dict.fromkeys(fitted))}.\n"
                   + footer)
     if output:
+        from estimator.cli_compare import refuse_unwritable_table
+
+        refuse_unwritable_table(output)
+        if not quiet:
+            outside = int((~result.long["in_domain"].astype(bool)).sum())
+            click.echo(f"estimated {result.long['property'].nunique()} properties for "
+                       f"{len(result.wide)} samples; {outside} estimates outside their "
+                       "method's fitted domain (see the 'flags' column)")
         emit(result.wide, output)
     else:
         emit(_wide_for_terminal(result.wide), None, footer=footer)

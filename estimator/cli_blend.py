@@ -18,6 +18,7 @@ from pathlib import Path
 
 import click
 
+from estimator.cli_compare import model_line, model_option, quiet_option
 from estimator.cliutil import CONTEXT, ReportingCommand, emit, input_options, load_inputs
 from estimator.errors import UsageError
 
@@ -25,6 +26,8 @@ __all__ = ["INFEASIBLE_EXIT_CODE", "blend", "mix"]
 
 #: Exit status of ``mix`` when no mix of the lots meets every limit.
 INFEASIBLE_EXIT_CODE = 1
+#: Default of ``mix --margin``: stated errors ("bands") the mix must stay inside each limit.
+DEFAULT_MARGIN_BANDS = 1.0
 DEFAULT_LEVELS = "0,2,5,7,10,20,30,50,100"
 
 
@@ -83,7 +86,8 @@ def _write(frame, output: str, *, footer: str, extra: dict) -> None:
         for tag, table in extra.items():
             path = write_table(table.assign(caution=CAUTION_SHORT), _sidecar(output, tag))
             click.echo(f"wrote {path} ({len(table)} rows)", err=True)
-    click.echo(footer, err=True)
+    if footer:
+        click.echo(footer, err=True)
 
 
 def _check_side_files(plot: str | None, report_path: str | None) -> None:
@@ -120,14 +124,18 @@ def _save_png(fig, path: str) -> None:
               show_default=True,
               help="all: write the long table with every mixing rule, one row per value "
                    "(with -o; the terminal shows the default rules).")
+@model_option
+@quiet_option
 @click.option("--plot", metavar="PNG", help="Also draw the blend curves into this PNG file.")
 @click.option("--report", "report_path", metavar="HTML",
               help="Also write a self-contained HTML report.")
 @click.option("-o", "--output", metavar="FILE",
               help="Write the blend table (.csv, .xlsx or .json); the highest levels go to a "
-                   "second sheet or a _levels sibling file.")
+                   "second sheet or a _levels sibling file. The highest levels are still "
+                   "printed.")
 def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_cloud_point,
-          climate_class, spec_names, methods, plot, report_path, output) -> None:
+          climate_class, spec_names, methods, models, quiet, plot, report_path,
+          output) -> None:
     """Properties of each FAME blended into a diesel at B0-B100, and the highest level
     that still meets each target.
 
@@ -135,8 +143,12 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     cetane number linearly by volume (approximate), heating values by mass (and per
     litre), cloud point by ideal solubility of the saturated esters and the diesel's
     wax, CFPP linearly by volume with a wide error. The highest level meeting a
-    target is found by root finding on the continuous blend curve, also with the
-    stated error taken against the blend.
+    target is found by bisection on the continuous blend curve, also with the
+    stated error taken against the blend. A level that is none or B0 says why
+    (the limiting limit, and whether the diesel alone misses it); EN 590 admits only
+    FAME that meets EN 14214. The diesel file needs only the properties the
+    question uses (the targets' properties, and density for mass fractions); the
+    others are left empty in the table.
 
     \b
     Examples:
@@ -152,18 +164,28 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     grid = blending.parse_levels(levels)
     specs = [] if spec_names.strip().lower() == "none" else [
         s.strip() for s in spec_names.split(",") if s.strip()]
-    fuel = blending.load_diesel(diesel)
     targets = blend_targets.blend_targets(max_cfpp_C=max_cfpp, max_cloud_point_C=max_cloud_point,
                                      climate_class=climate_class, specs=specs)
+    fuel = blending.load_diesel(diesel, blending.needed_properties(t.property for t in targets))
     _check_side_files(plot, report_path)
     profile = load_inputs(inputs, oils, basis, sum_tolerance)
-    fame = blending.fame_component(profile.wt_pct, profile.samples)
+    long = None
+    if models:
+        from estimator.comparison import long_estimates
+
+        long = long_estimates(profile, models=models)
+    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long)
     table = (blending.blend_table(fame, fuel, grid, methods="all") if methods == "all"
              else blending.blend_wide(fame, fuel, grid))
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
-    summary = _summary_text(blend_targets.summary_table(highest)) if highest is not None else ""
+    summary = (_summary_text(blend_targets.summary_table(highest))
+               if highest is not None and not quiet else "")
     footer = _blend_footer(fuel)
     _check_outputs(output, ["levels"] if highest is not None else [], plot, report_path)
+    if long is not None:
+        from estimator.comparison import model_properties
+
+        footer = model_line(model_properties(long)) + "\n" + footer
     if plot or report_path:
         from estimator.report.blend_plots import blend_curves
 
@@ -179,10 +201,12 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
             path = write_blend_report(report_path, wide, highest, fuel, figure=fig)
             click.echo(f"wrote {path}", err=True)
     if output:
-        extra = {"levels": highest} if highest is not None else {}
-        _write(table, output, footer=footer, extra=extra)
-        if summary:
+        if summary and not quiet:
             click.echo(summary)
+        extra = {"levels": highest} if highest is not None else {}
+        _write(table, output, footer="" if quiet else footer, extra=extra)
+        return
+    if quiet:
         return
     wide = table if methods == "default" else blending.blend_wide(fame, fuel, grid)
     _print_blend(wide, fuel, fame)
@@ -197,6 +221,8 @@ def _summary_text(table) -> str:
     return (
         "Highest blend level (% v/v FAME) meeting each target; in brackets, the highest\n"
         "level with the stated error taken against the blend (the cautious answer).\n"
+        "A 'none' or B0 names the limiting limit and whether the diesel alone misses it.\n"
+        "EN 590 admits only FAME that meets EN 14214.\n"
         "EN 590 allows at most B7; ASTM D7467 covers B6-B20 and sets no cold-flow limit\n"
         "(by agreement between buyer and seller), so its column says nothing about winter.\n\n"
         + format_table(table, transpose=False)
@@ -234,10 +260,13 @@ def _print_blend(wide, fuel, fame) -> None:
         heads = [f"B{lv:g}" for lv in part["level_pct_v"]]
         rows = []
         for prop, label, dec in _BLEND_ROWS:
+            if part[prop].isna().all():
+                continue  # the diesel description does not give it
             rows.append({"property": label, **{
-                h: f"{v:.{dec}f}" for h, v in zip(heads, part[prop])}})
+                h: f"{v:.{dec}f}" if v == v else "-" for h, v in zip(heads, part[prop])}})
             rows.append({"property": "  ± error", **{
-                h: f"{e:.{dec}f}" for h, e in zip(heads, part[f"{prop}_error"])}})
+                h: f"{e:.{dec}f}" if e == e else "-" for h, e in zip(heads,
+                                                                    part[f"{prop}_error"])}})
         click.echo(f"FAME {sample} in diesel {fuel.name} (B = % FAME by volume)")
         click.echo(format_table(pd.DataFrame(rows), transpose=False))
         flags = [f for f in part["flags"] if f]
@@ -265,14 +294,24 @@ def _print_blend(wide, fuel, fame) -> None:
 @click.option("--method", "method_overrides", multiple=True, metavar="PROPERTY=NAME",
               help="Use another estimation method for a property (repeatable), e.g. "
                    "cetane_number=bamgboye2008.")
+@click.option("--margin", "margin_bands", type=float, default=DEFAULT_MARGIN_BANDS,
+              show_default=True, metavar="BANDS",
+              help="Stated errors the mix must stay inside each limit (0: it may sit on its "
+                   "limits, and its verdict is then 'too close to call').")
+@click.option("--costs", "costs_file", type=click.Path(dir_okay=False), metavar="COSTS.json",
+              help="Processing prices (JSON, as for 'compare'); default: stated assumptions.")
+@model_option
+@quiet_option
 @click.option("--plot", metavar="PNG", help="Also draw the shares and the limits into this PNG.")
 @click.option("--report", "report_path", metavar="HTML",
               help="Also write a self-contained HTML report.")
 @click.option("-o", "--output", metavar="FILE",
               help="Write lot, share_mass_pct, ... (.csv, .xlsx or .json); the mixed fuel's "
-                   "properties, verdicts and limits go to extra sheets or sibling files.")
+                   "properties, verdicts and limits go to extra sheets or sibling files. The "
+                   "shares are still printed.")
 def mix(input_file, basis, sum_tolerance, spec, max_cfpp, max_cloud_point, climate_class,
-        available, demand_t, pretreat, method_overrides, plot, report_path, output) -> None:
+        available, demand_t, pretreat, method_overrides, margin_bands, costs_file, models, quiet,
+        plot, report_path, output) -> None:
     """Cheapest mix of the offered lots whose fuel still meets the specification.
 
     The fuel of a mix has the mass-weighted profile of the lots' fuels. Limits that
@@ -281,7 +320,9 @@ def mix(input_file, basis, sum_tolerance, spec, max_cfpp, max_cloud_point, clima
     ideal-solubility cloud point as one bound per saturated ester) go into a linear
     programme; nonlinear ones (e.g. a --method override such as
     cfpp_C=from_cloud_point) are checked on its answer and refined with SLSQP.
-    Shares are of the fuel's mass.
+    Shares are of the fuel's mass. By default the mix keeps one stated error
+    (--margin 1) inside every limit, so that its own verdict is not 'too close to
+    call'; the limits table shows each limit's headroom in stated errors.
     When no mix meets every limit, an infeasibility report names the limits that
     conflict and how far the best mix misses each, and the exit status is 1.
 
@@ -291,7 +332,8 @@ def mix(input_file, basis, sum_tolerance, spec, max_cfpp, max_cloud_point, clima
       fame-estimator mix lots.csv --basis fatty-acid --max-cfpp -5 --demand-t 1500 \\
           -o mix.xlsx --plot mix.png
       fame-estimator mix lots.csv --basis fatty-acid --max-cloud-point 0 \\
-          --method cetane_number=bamgboye2008
+          --method cetane_number=bamgboye2008 --margin 0
+      fame-estimator mix lots.csv --basis fatty-acid --model lab_model.json --margin 2
     """
     from estimator import mixing
     from estimator.specs import normalise_climate_class
@@ -303,10 +345,16 @@ def mix(input_file, basis, sum_tolerance, spec, max_cfpp, max_cloud_point, clima
     if demand_t is not None and not demand_t > 0:
         raise UsageError(f"--demand-t must be a positive number of tonnes, got {demand_t:g}")
     _check_side_files(plot, report_path)
+    costs = None
+    if costs_file:
+        from estimator.sourcing import read_costs
+
+        costs = read_costs(costs_file)
     profile = load_inputs((input_file,), (), basis, sum_tolerance)
     result = mixing.least_cost_mix(
         profile, constraints, demand_t=demand_t, available_column=available, pretreat=pretreat,
-        methods=methods, spec=spec, climate_class=climate_class,
+        methods=methods, spec=spec, climate_class=climate_class, margin_bands=margin_bands,
+        models=models, costs=costs,
     )
     footer = _mix_footer(result)
     _check_outputs(output, list(_mix_extras(result)) if result.feasible else [], plot,
@@ -322,20 +370,24 @@ def mix(input_file, basis, sum_tolerance, spec, max_cfpp, max_cloud_point, clima
 
             click.echo(f"wrote {write_mix_report(report_path, result, figure=fig)}", err=True)
     if not result.feasible:
-        _print_infeasible(result)
+        if not quiet:
+            _print_infeasible(result)
         if output:
             _write(result.diagnosis if result.diagnosis is not None else result.constraints,
-                   output, footer=footer, extra={})
-        else:
+                   output, footer="" if quiet else footer, extra={})
+        elif not quiet:
             click.echo("\n" + footer)
         click.echo(f"fame-estimator: {result.message}", err=True)
         click.get_current_context().exit(INFEASIBLE_EXIT_CODE)
     if output:
-        _write(_lot_columns(result), output, footer=footer, extra=_mix_extras(result))
-        click.echo(_cost_line(result))
+        if not quiet:
+            _print_mix(result, short=True)
+        _write(_lot_columns(result), output, footer="" if quiet else footer,
+               extra=_mix_extras(result))
         return
-    _print_mix(result)
-    click.echo("\n" + footer)
+    if not quiet:
+        _print_mix(result)
+        click.echo("\n" + footer)
 
 
 def _parse_methods(items) -> dict[str, str]:
@@ -383,21 +435,23 @@ def _mix_extras(result) -> dict:
 
 
 def _cost_line(result) -> str:
-    return (f"feedstock cost of the mixed fuel: {result.cost_per_t_fuel:,.1f} per t of fuel "
-            f"({result.solver})")
+    return (f"cost of the mixed fuel (oil, methanol, catalyst, pretreatment, less the glycerol "
+            f"credit): {result.cost_per_t_fuel:,.1f} per t of fuel ({result.solver})")
 
 
 def _mix_footer(result) -> str:
     from estimator.cautions import CAUTION_SHORT
 
     lines = list(result.notes)
+    if result.model_properties:
+        lines.append(model_line(result.model_properties))
     lines.append("Shares are of the fuel's mass; theoretical yields (see 'compare' for the "
                  "valuation assumptions).")
     lines.append(CAUTION_SHORT)
     return "\n".join(lines)
 
 
-def _print_mix(result) -> None:
+def _print_mix(result, *, short: bool = False) -> None:
     import pandas as pd
 
     from estimator.report.tables import format_table
@@ -413,11 +467,15 @@ def _print_mix(result) -> None:
     shown = pd.DataFrame({
         "limit": c["constraint"],
         "mix value": [f"{v:.4g}" for v in c["value"]],
-        "margin": [f"{v:.3g}" for v in c["margin"]],
+        "± error": [f"{e:.2g}" if e > 0 else "exact" for e in c["error"]],
+        "headroom": [f"{v:.3g}" for v in c["headroom"]],
+        "in errors": [_bands_text(b, e) for b, e in zip(c["headroom_bands"], c["error"])],
         "binding": c["binding"].map({True: "binding", False: ""}),
-        "how": c["linear_form"],
     })
-    click.echo("Limits on the mixed fuel (estimate by the default method; margin >= 0 meets)")
+    if not short:
+        shown["how"] = c["linear_form"]
+    click.echo(f"Limits on the mixed fuel: headroom to each limit (>= 0 meets), also in stated "
+               f"errors; required: {result.margin_bands:g} (--margin)")
     click.echo(format_table(shown, transpose=False))
     if result.verdicts is not None:
         from estimator.specs import summarise
@@ -427,16 +485,32 @@ def _print_mix(result) -> None:
                    + "; ".join(f"{s} {summary.loc['mix', s]}" for s in summary.columns))
 
 
+def _bands_text(bands: float, error: float) -> str:
+    import math
+
+    if not error > 0:
+        return "exact"
+    if not math.isfinite(bands):
+        return "-"
+    return f"{0.0 if abs(bands) < 0.005 else bands:.2f}"
+
+
 def _print_infeasible(result) -> None:
     import pandas as pd
 
     from estimator.report.tables import format_table
 
     d = result.diagnosis
-    click.echo("No mix of the lots meets every limit. Least-violating mix:")
+    if result.margin_bands > 0:
+        click.echo(f"No mix of the lots stays {result.margin_bands:g} stated error(s) inside "
+                   "every limit (--margin). Least-violating mix, against the limits moved "
+                   "inside:")
+    else:
+        click.echo("No mix of the lots meets every limit. Least-violating mix:")
     if d is not None:
         shown = pd.DataFrame({
             "limit": d["constraint"],
+            "with margin": [f"{v:.4g}" for v in d["limit"]],
             "best mix": [f"{v:.4g}" for v in d["best_value"]],
             "missed by": [("" if m == 0 else f"{m:.3g} {u}") for m, u in zip(d["miss"],
                                                                             d["unit"])],

@@ -21,7 +21,7 @@ from estimator.cliutil import (
     peak_options,
 )
 
-__all__ = ["STRICT_EXIT_CODE", "check", "compare"]
+__all__ = ["STRICT_EXIT_CODE", "check", "compare", "model_option", "quiet_option"]
 
 #: Exit status of ``check --strict`` when any verdict is ``fails``.
 STRICT_EXIT_CODE = 3
@@ -40,6 +40,42 @@ def _spec_options(func):
              "astm-d7467. Default: en14214 and astm-d6751.",
     )(func)
     return func
+
+
+def model_option(func):
+    """``--model MODEL.json`` (repeatable): a lab model's values replace the estimates."""
+    return click.option(
+        "--model", "models", multiple=True, type=click.Path(dir_okay=False),
+        metavar="MODEL.json",
+        help="A model fitted with 'fame-estimator fit' (repeatable): its properties replace "
+             "the published estimates in verdicts, ranking and limits.")(func)
+
+
+def quiet_option(func):
+    """``--quiet``: no short answer on stdout (files written are still named on stderr)."""
+    return click.option("--quiet", "-q", is_flag=True,
+                        help="Print no answer on stdout; files written are still named on "
+                             "stderr.")(func)
+
+
+def refuse_unwritable_table(output: str | None) -> None:
+    """Refuse an output table suffix before any answer is printed (same words as the writer)."""
+    from estimator.report.tables import TABLE_SUFFIXES
+
+    if output and Path(output).suffix.lower() not in TABLE_SUFFIXES:
+        from estimator.errors import UsageError
+
+        raise UsageError(f"cannot write {Path(output).name!r}: use an output file ending in "
+                         f"{', '.join(TABLE_SUFFIXES)}")
+
+
+def model_line(model_props: dict | None) -> str:
+    """One line naming the properties a lab model gave ('' without models)."""
+    if not model_props:
+        return ""
+    parts = [f"{p} ({how})" for p, how in model_props.items()]
+    return "From the lab's model file(s), replacing the published estimates: " + "; ".join(
+        parts) + "."
 
 
 def _inputs(func):
@@ -91,10 +127,13 @@ def _with_caution(frame, output: str | None):
 @_spec_options
 @click.option("--strict", is_flag=True,
               help=f"Exit with status {STRICT_EXIT_CODE} when any verdict is 'fails'.")
+@model_option
+@quiet_option
 @click.option("-o", "--output", metavar="FILE",
-              help="Write the verdict table (.csv, .xlsx or .json).")
+              help="Write the verdict table (.csv, .xlsx or .json); the verdict counts are "
+                   "still printed.")
 def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
-          spec_names, climate_class, strict, output) -> None:
+          spec_names, climate_class, strict, models, quiet, output) -> None:
     """Check each sample's estimated fuel against specification limits.
 
     Every estimate (± one standard uncertainty) is compared with every limit and
@@ -110,26 +149,37 @@ def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_
       fame-estimator check --oil rapeseed --oil soybean
       fame-estimator check lots.csv --spec en14214 --climate-class C
       fame-estimator check lots.csv --spec astm-d6751 --strict -o verdicts.xlsx
+      fame-estimator check lots.csv --model lab_model.json --climate-class C
       fame-estimator check peaks.csv --reference mix.csv --samples masses.csv
     """
     import pandas as pd
 
     from estimator.comparison import SPEC_LABELS, check_profile
     from estimator.report.html import plus_minus
-    from estimator.specs import PROPERTY_LABELS, limits, normalise_climate_class, summarise
+    from estimator.specs import PROPERTY_LABELS, limits, normalise_climate_class
 
     names = spec_names or DEFAULT_SPECS
     climate_class = normalise_climate_class(climate_class)
     limits(names, climate_class)  # bad names fail before the inputs are read
     profile = load_inputs(inputs, oils, basis, sum_tolerance, reference, sample_sheet,
                           internal_standard)
-    table = check_profile(profile, names, climate_class)
+    table = check_profile(profile, names, climate_class, models=models)
     failed = int((table["verdict"] == "fails").sum())
     footer = _footer(climate_class, names, table)
+    method = table["method"].astype(str)
+    fitted = table.loc[method.str.startswith("fit:"), ["property", "method"]].drop_duplicates(
+        "property")
+    from_model = model_line({p: f"lab model {m.removeprefix('fit:')}" for p, m in zip(
+        fitted["property"], fitted["method"])})
+    if from_model:
+        footer = from_model + "\n" + footer
     if output:
+        refuse_unwritable_table(output)
+        if not quiet:
+            _print_check_summary(table, failed)
         frame, sheets = _with_caution(table, output)
-        emit(frame, output, footer=footer, sheets=sheets)
-    else:
+        emit(frame, output, footer="" if quiet else footer, sheets=sheets)
+    elif not quiet:
         sign = {"min": "≥", "max": "≤"}
         shown = pd.DataFrame({
             "sample": table["sample"],
@@ -146,16 +196,24 @@ def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_
         from estimator.report.tables import format_table
 
         click.echo(format_table(shown, transpose=False))
-        summary = summarise(table)
-        click.echo("\nsummary:")
-        for sample, row in summary.iterrows():
-            parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[s]}" for s in summary.columns)
-            click.echo(f"  {sample}: {parts}")
-        click.echo(f"\n{failed} of {len(table)} verdicts fail.\n{footer}")
+        _print_check_summary(table, failed)
+        click.echo(footer)
     if strict and failed:
         click.echo(f"--strict: {failed} verdicts fail; exit status {STRICT_EXIT_CODE}",
                    err=True)
         click.get_current_context().exit(STRICT_EXIT_CODE)
+
+
+def _print_check_summary(table, failed: int) -> None:
+    from estimator.comparison import SPEC_LABELS
+    from estimator.specs import summarise
+
+    summary = summarise(table)
+    click.echo("\nsummary:")
+    for sample, row in summary.iterrows():
+        parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[s]}" for s in summary.columns)
+        click.echo(f"  {sample}: {parts}")
+    click.echo(f"\n{failed} of {len(table)} verdicts fail.")
 
 
 @click.command(cls=ReportingCommand, context_settings=CONTEXT)
@@ -166,27 +224,40 @@ def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_
               help="none: base catalysis, free fatty acid lost to soap; acid: free fatty acid "
                    "esterified to fuel first.")
 @click.option("--methanol-ratio", type=float, default=6.0, show_default=True, metavar="R",
-              help="Methanol : oil (triglyceride) molar ratio charged; at least 3.")
+              help="Methanol : oil (triglyceride) molar ratio charged; at least 3. The "
+                   "unrecovered excess is costed.")
+@click.option("--costs", "costs_file", type=click.Path(dir_okay=False), metavar="COSTS.json",
+              help="Prices and uses of methanol, catalyst, acid pretreatment, antioxidant and "
+                   "the glycerol credit (JSON; see the README). Default: stated assumptions.")
+@model_option
+@quiet_option
 @click.option("-o", "--output", "outdir", metavar="DIR", type=click.Path(file_okay=False),
               help="Write comparison.csv, comparison.xlsx, plots/ (PNG and SVG) and "
-                   "report.html into DIR.")
+                   "report.html into DIR; the ranking is still printed.")
 def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
-            spec_names, climate_class, pretreat, methanol_ratio, outdir) -> None:
+            spec_names, climate_class, pretreat, methanol_ratio, costs_file, models, quiet,
+            outdir) -> None:
     """Compare offered lots: spec verdicts, fuel yield and cost per tonne of fuel, ranked.
 
     Reads each lot's profile and, when present, its price_per_t, ffa_wt_pct,
     water_wt_pct, supplier, feedstock and available_t columns. Lots whose fuel meets
     every specification checked rank first, then those too close to call, then
-    those that fail; within each group the cheapest fuel first. A lot without a
-    price keeps its verdicts; its cost is left empty.
+    those whose only failures a treatment fixes (oxidation stability, by an
+    antioxidant dose), then those with a failure no treatment fixes. Failing lots
+    closer to their limits (in stated errors) come first; then the cheapest fuel,
+    counting methanol, catalyst, pretreatment, the glycerol credit and any
+    antioxidant dose. A lot without a price keeps its verdicts; its cost is left
+    empty.
 
     \b
     Examples:
       fame-estimator compare lots.csv --basis fatty-acid --climate-class C
       fame-estimator compare lots.csv --basis fatty-acid -o out/lots --pretreat acid
       fame-estimator compare --oil rapeseed --oil palm --spec en14214 --spec astm-d6751
+      fame-estimator compare lots.csv --basis fatty-acid --costs costs.json \\
+          --model lab_model.json --climate-class C
     """
-    from estimator.comparison import SPEC_LABELS, compare_lots
+    from estimator.comparison import compare_lots
     from estimator.specs import limits, normalise_climate_class
 
     names = spec_names or DEFAULT_SPECS
@@ -197,11 +268,22 @@ def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
 
         raise UsageError(f"-o {outdir}: compare writes a folder of files; give a folder name "
                          "(e.g. -o out/lots), not a file")
+    costs = None
+    if costs_file:
+        from estimator.sourcing import read_costs
+
+        costs = read_costs(costs_file)
     profile = load_inputs(inputs, oils, basis, sum_tolerance, reference, sample_sheet,
                           internal_standard)
     result = compare_lots(profile, spec_names=names, climate_class=climate_class,
-                          pretreat=pretreat, methanol_ratio=methanol_ratio)
+                          pretreat=pretreat, methanol_ratio=methanol_ratio, costs=costs,
+                          models=models)
     footer = _footer(climate_class, names, result.verdicts)
+    from_model = model_line(result.model_properties)
+    if from_model:
+        footer = from_model + "\n" + footer
+    if not quiet:
+        _print_ranking(result, short=bool(outdir))
     if outdir:
         from estimator.report.html import write_comparison
 
@@ -210,10 +292,18 @@ def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
             click.echo(f"wrote {written[key]}", err=True)
         click.echo(f"wrote {len(written['plots'])} plot files into "
                    f"{Path(outdir) / 'plots'}", err=True)
-        click.echo(footer, err=True)
+        if not quiet:
+            click.echo(footer, err=True)
         return
+    if not quiet:
+        click.echo("\n" + footer)
+
+
+def _print_ranking(result, *, short: bool) -> None:
+    """The ranked table (and, unless ``short``, the verdicts and notes of every lot)."""
     import pandas as pd
 
+    from estimator.comparison import SPEC_LABELS
     from estimator.report.html import plus_minus
     from estimator.report.tables import format_table
 
@@ -222,7 +312,7 @@ def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
         "CFPP not judged" in str(v) for s in result.specs for v in r[f"verdict_{s}"])
     shown = pd.DataFrame({
         "rank": r["rank"], "lot": r["sample"],
-        "overall": r["overall"] + ("*" if unjudged else ""),
+        "decision": r["decision"] + ("*" if unjudged else ""),
         "cetane": [plus_minus(v, e) for v, e in zip(r["cetane_number"], r["cetane_number_error"])],
         "IV": [plus_minus(v, e) for v, e in zip(r["iodine_value_gI2_100g"],
                                          r["iodine_value_gI2_100g_error"])],
@@ -232,12 +322,22 @@ def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
         "yield t/t": r["fuel_yield_t_per_t_oil"],
         "cost per t fuel": r["cost_per_t_fuel"],
     })
-    click.echo("Lots ranked: meeting every spec first, then by feedstock cost per tonne of "
-               "fuel\n")
+    click.echo("Lots ranked: meeting every spec first; then failures a treatment fixes; then "
+               "failures none fixes; closer to the limits, then cheaper fuel, first\n")
     click.echo(format_table(shown, transpose=False))
     if unjudged:
         click.echo("* CFPP not judged: no --climate-class given; a lot that 'meets' may still "
                    "gel in winter.")
+    failing = [(s, u, f) for s, u, f in zip(r["sample"], r["unfixable_failures"],
+                                            r["fixable_failures"]) if u or f]
+    if failing:
+        click.echo("\nfailures (fixable: by which treatment, at what assumed cost):")
+        for sample, unfix, fix in failing:
+            parts = ([f"no treatment fixes {unfix}"] if unfix else []) + (
+                [f"fixable: {fix}"] if fix else [])
+            click.echo(f"  {sample}: {'; '.join(parts)}")
+    if short:
+        return
     click.echo("\nverdicts:")
     for _, row in r.iterrows():
         parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[f'verdict_{s}']}" for s in result.specs)
@@ -247,4 +347,3 @@ def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
         click.echo("\nnotes:")
         for sample, text in notes:
             click.echo(f"  {sample}: {text}")
-    click.echo("\n" + footer)

@@ -11,11 +11,15 @@ __all__ = ["report"]
 
 @click.command(cls=ReportingCommand, context_settings=CONTEXT)
 @click.argument("scenario_file", type=click.Path(dir_okay=False))
+@click.option("--model", "models", multiple=True, type=click.Path(dir_okay=False),
+              metavar="MODEL.json",
+              help="A model fitted with 'fame-estimator fit' (repeatable): its properties "
+                   "replace the published estimates, as the scenario's \"model\" key does.")
 @click.option("-o", "--output", "outdir", required=True, metavar="DIR",
               help="Folder for the tables, plots, model file and report.html.")
 @click.option("--allow-outside", is_flag=True,
               help="Let the scenario read files outside its own folder (refused by default).")
-def report(scenario_file, outdir, allow_outside) -> None:
+def report(scenario_file, models, outdir, allow_outside) -> None:
     """Run a planning scenario (lots, diesel, targets, lab data) and write one report.
 
     SCENARIO_FILE is a JSON file naming the lots file and, optionally, a diesel with
@@ -35,12 +39,14 @@ def report(scenario_file, outdir, allow_outside) -> None:
 
     scenario = read_scenario(scenario_file, allow_outside=allow_outside)
     protect_inputs(scenario.input_files())
-    result = run_scenario(scenario, progress=lambda text: click.echo(f"... {text}", err=True))
+    result = run_scenario(scenario, progress=lambda text: click.echo(f"... {text}", err=True),
+                          models=models)
     show_file_notes(result.profile)
     written = write_scenario(result, outdir)
     ranked = result.comparison.ranked
-    cols = [c for c in ("rank", "sample", "overall", "cost_per_t_fuel") if c in ranked.columns]
-    click.echo(f"{scenario.title}\n\nLots ranked (meeting every spec first, then by cost):")
+    cols = [c for c in ("rank", "sample", "decision", "cost_per_t_fuel") if c in ranked.columns]
+    click.echo(f"{scenario.title}\n\nLots ranked (meeting every spec first, then failures a "
+               "treatment fixes, then failures none fixes):")
     click.echo(format_table(ranked[cols], transpose=False))
     if result.blend is not None and result.blend["summary"] is not None:
         click.echo("\nHighest blend level (% v/v FAME; in brackets with the stated error "
@@ -52,5 +58,9 @@ def report(scenario_file, outdir, allow_outside) -> None:
         click.echo(f"\nLeast-cost mix: {line}")
     for f in result.fits:
         click.echo(f"\nrefit {f.property}: {f.statement}")
+    if result.model_properties:
+        click.echo("\nFrom the lab's model, replacing the published estimates in every "
+                   "decision: " + "; ".join(f"{p} ({how})" for p, how in
+                                             result.model_properties.items()))
     click.echo(f"\nwrote {written['report']} and the tables, plots and model beside it")
     click.echo(CAUTION_SHORT)

@@ -52,6 +52,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import cache
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -82,6 +83,8 @@ class Constraint:
     limit: float
     label: str
     source: str = ""
+    #: The specification's own limit when ``limit`` was moved inside it by a margin.
+    spec_limit: float | None = None
 
     @property
     def sign(self) -> float:
@@ -166,23 +169,44 @@ def mixed_composition(wt_pct_lots: np.ndarray, shares: np.ndarray) -> np.ndarray
 class _Model:
     """Evaluates constraint properties on compositions with the chosen methods."""
 
-    def __init__(self, methods: Mapping[str, str]):
+    def __init__(self, methods: Mapping[str, str], fitted: Mapping | None = None):
         from estimator.properties.methods import PROPERTIES, default_method, get_method
         from estimator.specs import EXACT_PROPERTIES
 
         self.methods = dict(methods)
+        self.fitted = dict(fitted or {})
         self._exact = set(EXACT_PROPERTIES)
         self._props = set(PROPERTIES)
         self._get = lambda p: get_method(p, self.methods[p]) if p in self.methods else \
             default_method(p)
 
     def method(self, prop: str):
-        """The registry Method used for ``prop`` (None for exact composition values)."""
-        if prop in self._exact:
+        """The registry Method used for ``prop`` (None for exact composition values and
+        for properties a lab model gives)."""
+        if prop in self._exact or prop in self.fitted:
             return None
         if prop not in self._props:
             raise UnknownNameError(f"no estimate for {prop!r}; cannot constrain the mix on it")
         return self._get(prop)
+
+    def errors(self, props: Sequence[str], w: np.ndarray) -> dict[str, np.ndarray]:
+        """The stated error of each property on every row of ``w`` (0 for exact ones)."""
+        from estimator.properties.predict import estimate
+
+        w = np.atleast_2d(w)
+        out = {p: np.asarray(self.fitted[p].predict(w).error, dtype=float)
+               for p in props if p in self.fitted}
+        rest = [p for p in props if p not in out]
+        if rest:
+            long = estimate(w, [str(i) for i in range(len(w))],
+                            methods=self.methods or "default")
+            for p in rest:
+                m = self.method(p)
+                rows = long[(long["property"].astype(str) == p)
+                            & (long["method"].astype(str) == (m.name if m else ""))]
+                out[p] = (rows["error"].to_numpy(dtype=float) if len(rows) == len(w)
+                          else np.zeros(len(w)))
+        return out
 
     def values(self, props: Sequence[str], w: np.ndarray) -> dict[str, np.ndarray]:
         """Each property on every row of ``w``."""
@@ -191,7 +215,9 @@ class _Model:
         out = {}
         for prop in props:
             m = self.method(prop)
-            if m is None:
+            if prop in self.fitted:
+                out[prop] = np.asarray(self.fitted[prop].predict(w).value, dtype=float)
+            elif m is None:
                 out[prop] = np.asarray(desc[prop], dtype=float)
             elif m.name == "imahara2006":  # same function, ester data looked up once
                 out[prop] = _imahara_fast(w)
@@ -315,12 +341,17 @@ class MixResult:
     verdicts: pd.DataFrame | None = None
     diagnosis: pd.DataFrame | None = None
     notes: list[str] = field(default_factory=list)
+    margin_bands: float = 0.0
+    #: The processing costs used (None: the defaults of :mod:`estimator.sourcing`).
+    costs: object = None
+    #: Properties a lab model gave (``property -> how``), for the report.
+    model_properties: dict[str, str] = field(default_factory=dict)
 
 
-def _lot_inputs(profile, available_column, demand_t, pretreat):
+def _lot_inputs(profile, available_column, demand_t, pretreat, costs=None):
     from estimator.sourcing import value_lots
 
-    valued = value_lots(profile, pretreat=pretreat)
+    valued = value_lots(profile, pretreat=pretreat, costs=costs)
     cost = valued["cost_per_t_fuel"].to_numpy(dtype=float)
     yields = valued["fuel_yield_t_per_t_oil"].to_numpy(dtype=float)
     rows = profile.rows.to_numpy()
@@ -375,6 +406,9 @@ def least_cost_mix(
     spec: str | None = None,
     climate_class: str | None = None,
     seed: int = 0,
+    margin_bands: float = 0.0,
+    models: Sequence[str] = (),
+    costs=None,
 ) -> MixResult:
     """Find the cheapest fuel-mass shares of the lots whose mixed FAME meets every limit.
 
@@ -398,15 +432,59 @@ def least_cost_mix(
         Specification whose verdicts (:func:`estimator.specs.check`) are attached.
     seed : int
         Seed of the random mixes used to test linearity (results do not depend on it).
+    margin_bands : float
+        How many stated errors ("bands") inside each limit the mix must stay: each
+        limit is moved inward by ``margin_bands`` times the stated error of that
+        property, taken first at the equal-share mix and then at the mix found, until
+        it stops growing (exact composition limits have no band). 0 lets the mix sit
+        on its limits (its verdict is then 'too close to call'). [1]
+    models : sequence of path
+        Lab model files (``fame-estimator fit``): their properties replace the
+        published estimates in the limits and the verdicts.
+    costs : ProcessCosts, optional
+        Processing prices for the cost per tonne of fuel
+        (:func:`estimator.sourcing.value_lots`).
     """
     if demand_t is not None and not (np.isfinite(demand_t) and demand_t > 0):
         raise UsageError(f"--demand-t must be a positive number of tonnes, got {demand_t:g}")
     if not constraints:
         raise UsageError("no limits to meet: give a specification or a cold-flow limit")
-    model = _Model(methods or {})
+    if not (np.isfinite(margin_bands) and 0 <= margin_bands <= 10):
+        raise UsageError(f"--margin must be between 0 and 10 bands, got {margin_bands:g}")
+    model = _Model(methods or {}, _fitted_models(models))
     valued, cost, yields, avail, notes = _lot_inputs(profile, available_column, demand_t,
-                                                     pretreat)
+                                                     pretreat, costs)
     w_lots = profile.wt_pct
+    if margin_bands <= 0:
+        constraints = [c if c.spec_limit is not None else
+                       Constraint(c.property, c.kind, c.limit, c.label, c.source, c.limit)
+                       for c in constraints]
+        result = _solve(profile, model, constraints, valued, cost, yields, avail, notes, w_lots,
+                        demand_t, spec, climate_class, seed, models, margin_bands)
+        result.costs = costs
+        return result
+    # Move each limit inside by the margin times the stated error; where that error
+    # depends on the composition, take it at the mix found and solve again.
+    mean_mix = mixed_composition(w_lots, np.ones(len(w_lots)) / len(w_lots))[None, :]
+    errors = {p: float(np.nan_to_num(e[0])) for p, e in model.errors(
+        list(dict.fromkeys(c.property for c in constraints)), mean_mix).items()}
+    result = None
+    for _ in range(4):
+        tight = _with_margin(constraints, errors, margin_bands)
+        result = _solve(profile, model, tight, valued, cost, yields, avail, notes, w_lots,
+                        demand_t, spec, climate_class, seed, models, margin_bands)
+        at_mix = dict(zip(result.constraints["property"], result.constraints["error"]))
+        grown = {p: e for p, e in at_mix.items() if e > errors.get(p, 0.0) * (1 + 1e-6) + 1e-12}
+        if not grown or not result.feasible:
+            break
+        errors.update(grown)
+    result.costs = costs
+    return result
+
+
+def _solve(profile, model, constraints, valued, cost, yields, avail, notes, w_lots, demand_t,
+           spec, climate_class, seed, models, margin_bands) -> MixResult:
+    """One least-cost programme over fixed limits (see :func:`least_cost_mix`)."""
     ub = _upper_bounds(avail, yields, demand_t)
     rng = np.random.default_rng(seed)
     linear, nonlinear, hows = [], [], {}
@@ -417,7 +495,9 @@ def least_cost_mix(
         else:
             linear.extend((c, a, bound) for a, bound in zip(row[0], row[1]))
             hows[c.label] = row[2]
-    problem = _Problem(model, w_lots, cost, ub, linear, nonlinear)
+    from estimator.mix_problem import MixProblem
+
+    problem = MixProblem(model, w_lots, cost, ub, linear, nonlinear)
 
     if ub.sum() < 1.0 - 1e-12:
         supply = float(np.sum(np.where(np.isinf(avail), 0, avail) * yields))
@@ -425,7 +505,7 @@ def least_cost_mix(
         message = (f"no mix can supply {demand_t:g} t of fuel: the lots make at most "
                    f"{supply:.1f} t")
         return _finish(profile, problem, valued, shares, False, message, "none", hows, demand_t,
-                       avail, notes, spec, climate_class, diagnosis=None)
+                       avail, notes, spec, climate_class, diagnosis=None, models=models)
 
     shares, _status = problem.solve_lp()
     solver = "linprog (HiGHS)"
@@ -452,11 +532,43 @@ def least_cost_mix(
     else:
         message = f"least-cost mix found by {solver}"
     result = _finish(profile, problem, valued, shares, feasible, message, solver, hows, demand_t,
-                     avail, notes, spec, climate_class, diagnosis=diagnosis)
+                     avail, notes, spec, climate_class, diagnosis=diagnosis, models=models)
+    result.margin_bands = float(margin_bands)
+    if not feasible and margin_bands > 0 and diagnosis is not None:
+        result.message = result.message.replace(
+            "meets", f"stays {margin_bands:g} stated error(s) inside every limit of", 1) + (
+            "; a smaller --margin may find one")
     if feasible and not result.constraints["meets"].all():  # pragma: no cover - safety net
         result.feasible = False
         result.message = "the mix found does not meet every limit when re-checked"
     return result
+
+
+def _fitted_models(paths: Sequence[str]) -> dict:
+    """``property -> fitted model`` from lab model files (one file per property)."""
+    if not paths:
+        return {}
+    from estimator.errors import ModelFileError
+    from estimator.refit.model_file import read_model_file
+
+    out: dict = {}
+    for path in paths:
+        for model in read_model_file(path).models:
+            if model.property in out:
+                raise ModelFileError(f"{Path(path).name}: {model.property} also has a model in "
+                                     "another file; give one --model file per property")
+            out[model.property] = model
+    return out
+
+
+def _with_margin(constraints: Sequence[Constraint], errors: Mapping[str, float],
+                 bands: float) -> list[Constraint]:
+    """Each limit moved inward by ``bands`` times its property's stated error."""
+    out = []
+    for c in constraints:
+        limit = c.limit - c.sign * bands * float(errors.get(c.property, 0.0))
+        out.append(Constraint(c.property, c.kind, limit, c.label, c.source, c.limit))
+    return out
 
 
 def _infeasible_message(diagnosis: pd.DataFrame, spec: str | None) -> str:
@@ -472,194 +584,11 @@ def _infeasible_message(diagnosis: pd.DataFrame, spec: str | None) -> str:
     return f"no mix of the lots {what}: least-violating mix: " + "; ".join(parts)
 
 
-class _Problem:
-    """The least-cost programme, its nonlinear refinement and its diagnosis."""
+def _finish(profile, problem, valued, shares, feasible, message, solver, hows,
+            demand_t, avail, notes, spec, climate_class, diagnosis, models=()) -> MixResult:
+    from types import SimpleNamespace
 
-    def __init__(self, model, w_lots, cost, ub, linear, nonlinear):
-        self.model, self.w, self.cost, self.ub = model, w_lots, cost, ub
-        self.linear, self.nonlinear = linear, nonlinear
-        self.n = len(w_lots)
-        self.A = np.array([a for _, a, _ in linear]).reshape(len(linear), self.n)
-        self.b = np.array([b for _, _, b in linear], dtype=float)
-        finite = np.isfinite(self.b)
-        self.A_f, self.b_f = self.A[finite], self.b[finite]
-        self.impossible = bool(np.any(self.b == -np.inf))
-        self.scale = float(np.mean(np.abs(cost))) or 1.0
-        self.all = list(dict.fromkeys(c for c, _, _ in linear)) + list(nonlinear)
-
-    # -- values
-    def values(self, shares: np.ndarray, constraints=None) -> dict[str, float]:
-        cs = self.all if constraints is None else constraints
-        props = list(dict.fromkeys(c.property for c in cs))
-        vals = self.model.values(props, mixed_composition(self.w, shares))
-        return {p: float(v[0]) for p, v in vals.items()}
-
-    def violation(self, c: Constraint, value: float) -> float:
-        if np.isnan(value):
-            return np.inf
-        return c.sign * (value - c.limit)
-
-    def meets(self, c: Constraint, value: float) -> bool:
-        return self.violation(c, value) <= CHECK_RTOL * max(1.0, abs(c.limit))
-
-    def meets_all(self, shares) -> bool:
-        vals = self.values(shares)
-        return all(self.meets(c, vals[c.property]) for c in self.all)
-
-    def meets_nonlinear(self, shares) -> bool:
-        vals = self.values(shares, self.nonlinear)
-        return all(self.meets(c, vals[c.property]) for c in self.nonlinear)
-
-    # -- linear programme
-    def solve_lp(self, A=None, b=None, cost=None):
-        from scipy.optimize import linprog
-
-        if self.impossible and A is None:
-            return None, "a limit no finite composition can meet"
-        A = self.A_f if A is None else A
-        b = self.b_f if b is None else b
-        res = linprog(
-            self.cost / self.scale if cost is None else cost,
-            A_ub=A if len(A) else None, b_ub=b if len(A) else None,
-            A_eq=np.ones((1, self.n)), b_eq=[1.0],
-            bounds=list(zip(np.zeros(self.n), self.ub)), method="highs",
-        )
-        if res.status != 0:
-            return None, res.message
-        return np.clip(res.x, 0.0, self.ub), "optimal"
-
-    # -- nonlinear refinement
-    def _nl_vector(self, shares_batch: np.ndarray) -> np.ndarray:
-        """Scaled slack of each nonlinear limit (>= 0 meets) for each row of shares."""
-        props = list(dict.fromkeys(c.property for c in self.nonlinear))
-        vals = self.model.values(props, mixed_composition(self.w, shares_batch))
-        cols = []
-        for c in self.nonlinear:
-            v = vals[c.property]
-            slack = -c.sign * (v - c.limit) / max(1.0, abs(c.limit))
-            cols.append(np.where(np.isfinite(slack), slack, -10.0))
-        return np.column_stack(cols)
-
-    def _nl_value_jac(self, s: np.ndarray):
-        """Slacks and their forward-difference Jacobian from one batched evaluation."""
-        step = 1e-7
-        vals = self._nl_vector(np.vstack([s, s + step * np.eye(self.n)]))
-        return vals[0], ((vals[1:] - vals[0]) / step).T
-
-    def _nl_constraint(self):
-        return {"type": "ineq", "fun": lambda s: self._nl_vector(s[None, :])[0],
-                "jac": lambda s: self._nl_value_jac(s)[1]}
-
-    def refine(self, x0: np.ndarray, objective=None, keep_nonlinear: bool = True):
-        """SLSQP from ``x0``: least cost under every limit (or ``objective`` under the
-        linear rows only, for the least-violation search). None when nothing feasible."""
-        from scipy.optimize import minimize
-
-        cons = [{"type": "eq", "fun": lambda s: np.array([s.sum() - 1.0]),
-                 "jac": lambda s: np.ones((1, self.n))}]
-        if len(self.A_f):
-            cons.append({"type": "ineq", "fun": lambda s: self.b_f - self.A_f @ s,
-                         "jac": lambda s: -self.A_f})
-        if keep_nonlinear:
-            cons.append(self._nl_constraint())
-        c = self.cost / self.scale
-        fun = objective or (lambda s: (float(c @ s), c))
-        best = None
-        starts = [x0] + [np.eye(self.n)[j] for j in np.argsort(self.cost)
-                         if self.ub[j] >= 1.0][:2]
-        for start in starts:
-            res = minimize(fun, np.clip(start, 0, self.ub), jac=True, method="SLSQP",
-                           bounds=list(zip(np.zeros(self.n), self.ub)), constraints=cons,
-                           options={"maxiter": 100, "ftol": 1e-9})
-            s = np.clip(res.x, 0.0, self.ub)
-            s = s / s.sum()
-            if objective is not None:
-                return s
-            if self.meets_all(s) and (best is None or self.cost @ s < self.cost @ best):
-                best = s
-            if best is not None and start is x0:
-                break
-        return best
-
-    # -- infeasibility
-    def _elastic(self, rows: list[int]):
-        """Least total scaled violation of the chosen linear rows."""
-        from scipy.optimize import linprog
-
-        k = len(rows)
-        A = self.A[rows]
-        b = self.b[rows]
-        # slack measured relative to the row's own size, so rows in different units
-        # (kg/m3, mole fractions, wt %) weigh alike
-        scale = np.maximum(np.abs(b), np.abs(A).max(axis=1)) + 1e-12
-        # variables: shares (n), slack (k); a s - t <= b, minimise sum t / scale
-        A_ub = np.hstack([A, -np.eye(k)])
-        cost = np.concatenate([np.zeros(self.n), 1.0 / scale])
-        bounds = list(zip(np.zeros(self.n), self.ub)) + [(0, None)] * k
-        res = linprog(cost, A_ub=A_ub, b_ub=b, A_eq=np.hstack([np.ones((1, self.n)),
-                                                                  np.zeros((1, k))]),
-                      b_eq=[1.0], bounds=bounds, method="highs")
-        return res.x[: self.n], res.x[self.n:]
-
-    def _feasible_rows(self, rows: list[int]) -> bool:
-        if not rows:
-            return True
-        _, t = self._elastic(rows)
-        return bool(np.all(t <= 1e-9 * np.maximum(1.0, np.abs(self.b[rows]))))
-
-    def least_violation(self, shares) -> np.ndarray:
-        finite = [i for i in range(len(self.linear)) if np.isfinite(self.b[i])]
-        if finite:
-            s, _ = self._elastic(finite)
-        else:
-            s = shares if shares is not None else np.ones(self.n) / self.n
-        if self.nonlinear:
-            def objective(x):
-                slack, jac = self._nl_value_jac(x)
-                viol = np.minimum(slack, 0.0)
-                return float(viol @ viol), 2.0 * viol @ jac
-
-            refined = self.refine(s, objective=objective, keep_nonlinear=False)
-            if refined is not None:
-                s = refined
-        return s / s.sum()
-
-    def _rows_of(self, c: Constraint) -> list[int]:
-        return [i for i, (ci, _, _) in enumerate(self.linear)
-                if ci is c and np.isfinite(self.b[i])]
-
-    def diagnose(self, best: np.ndarray) -> pd.DataFrame:
-        """Each limit: the least-violating mix's value and miss, reachability, conflicts."""
-        from estimator.properties.methods import PROPERTIES
-        from estimator.specs import EXACT_PROPERTIES
-
-        vals = self.values(best)
-        linear = list(dict.fromkeys(c for c, _, _ in self.linear))
-        rows_of = {c: self._rows_of(c) for c in linear}
-        impossible = {c for c, _, bound in self.linear if bound == -np.inf}
-        alone = {c: c not in impossible and self._feasible_rows(rows_of[c]) for c in linear}
-        rows = []
-        for c in self.all:
-            v = vals[c.property]
-            meets = self.meets(c, v)
-            partners = []
-            if c in rows_of and alone[c] and not meets:
-                partners = [o.label for o in linear if o is not c and alone[o]
-                            and not self._feasible_rows(rows_of[c] + rows_of[o])]
-            unit = "wt %" if c.property in EXACT_PROPERTIES else PROPERTIES.get(c.property, "")
-            rows.append({
-                "constraint": c.label, "property": c.property, "kind": c.kind,
-                "limit": c.limit, "best_value": v,
-                "miss": np.inf if not np.isfinite(v) else 0.0 if meets else self.violation(c, v),
-                "unit": unit, "linear": c in rows_of,
-                "reachable_alone": bool(alone.get(c, True)),
-                "conflicts_with": ", ".join(partners),
-            })
-        return pd.DataFrame(rows)
-
-
-def _finish(profile, problem: _Problem, valued, shares, feasible, message, solver, hows,
-            demand_t, avail, notes, spec, climate_class, diagnosis) -> MixResult:
+    from estimator.comparison import decision_rows, model_properties
     from estimator.properties.predict import estimate
     from estimator.specs import check, composition_estimates
 
@@ -687,31 +616,47 @@ def _finish(profile, problem: _Problem, valued, shares, feasible, message, solve
     mix = mixed_composition(problem.w, shares)
     composition = pd.Series(mix, index=list(species_keys()), name="mix_wt_pct")
     long = estimate(mix[None, :], ["mix"], methods=problem.model.methods or "default")
+    if models:
+        from estimator.refit.apply import apply_models
+
+        long = apply_models(SimpleNamespace(wt_pct=mix[None, :], samples=["mix"]), list(models),
+                            long)
     long = pd.concat([long.astype({"property": str, "method": str, "unit": str, "note": str}),
                       composition_estimates(mix[None, :], ["mix"])], ignore_index=True)
     vals = problem.values(shares)
+    errs = problem.model.errors(list(dict.fromkeys(c.property for c in problem.all)),
+                                mix[None, :])
     crow = []
     for c in problem.all:
         v = vals[c.property]
         margin = -problem.violation(c, v)
         binding = bool(np.isfinite(margin) and abs(margin) <= 1e-5 * max(1.0, abs(c.limit)))
+        spec_limit = c.limit if c.spec_limit is None else c.spec_limit
+        headroom = -c.sign * (v - spec_limit)
+        err = float(np.nan_to_num(errs.get(c.property, [0.0])[0]))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            bands = headroom / err if err > 0 else (np.inf if headroom >= -1e-9 else -np.inf)
         crow.append({
-            "constraint": c.label, "property": c.property, "kind": c.kind, "limit": c.limit,
-            "value": v, "margin": 0.0 if binding else margin, "binding": binding,
+            "constraint": c.label, "property": c.property, "kind": c.kind,
+            "limit": spec_limit, "limit_with_margin": c.limit,
+            "value": v, "error": err, "headroom": headroom, "headroom_bands": bands,
+            "margin": 0.0 if binding else margin, "binding": binding,
             "meets": problem.meets(c, v),
             "linear_form": hows.get(c.label, "nonlinear (checked, SLSQP)"),
             "source": c.source,
         })
     ctable = pd.DataFrame(crow)
-    verdicts = check(long, spec, climate_class) if spec is not None else None
-    targets = _target_verdicts(long, [c for c in problem.all if c.source == "user"])
+    long_decide = decision_rows(long)
+    verdicts = check(long_decide, spec, climate_class) if spec is not None else None
+    targets = _target_verdicts(long_decide, [c for c in problem.all if c.source == "user"])
     if targets is not None:
         verdicts = targets if verdicts is None else pd.concat([verdicts, targets],
                                                               ignore_index=True)
     cost = float(problem.cost @ shares)
     return MixResult(feasible=bool(feasible), message=message, lots=lots, constraints=ctable,
                      composition=composition, estimates=long, cost_per_t_fuel=cost,
-                     solver=solver, verdicts=verdicts, diagnosis=diagnosis, notes=notes)
+                     solver=solver, verdicts=verdicts, diagnosis=diagnosis, notes=notes,
+                     model_properties=model_properties(long))
 
 
 def _target_verdicts(long: pd.DataFrame, targets: Sequence[Constraint]) -> pd.DataFrame | None:
@@ -721,14 +666,18 @@ def _target_verdicts(long: pd.DataFrame, targets: Sequence[Constraint]) -> pd.Da
 
     rows = []
     for c in targets:
-        est = long[(long["property"].astype(str) == c.property)
-                   & (long["method"].astype(str) == DEFAULTS.get(c.property, ""))]
+        method = long["method"].astype(str)
+        mine = long["property"].astype(str) == c.property
+        fitted = mine & method.str.startswith("fit:")
+        est = long[fitted] if fitted.any() else long[mine & (method == DEFAULTS.get(c.property,
+                                                                                     ""))]
         if est.empty:
             continue
         r = est.iloc[0]
         rows.append({"sample": r["sample"], "spec": "target", "property": c.property,
                      "estimate": float(r["value"]), "error": float(r["error"]),
-                     "limit": c.limit, "bound": c.kind, "unit": str(r["unit"]),
+                     "limit": c.limit if c.spec_limit is None else c.spec_limit,
+                     "bound": c.kind, "unit": str(r["unit"]),
                      "method": str(r["method"]), "in_domain": bool(r["in_domain"]),
                      "climate_class": None, "edition": "", "mark": "user target"})
     if not rows:

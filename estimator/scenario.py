@@ -17,7 +17,9 @@ file are relative to the file. Keys (all but ``lots`` optional)::
       "mix":   {"spec": "en14214", "climate_class": null, "max_cfpp_C": -5,
                 "max_cloud_point_C": null, "demand_t": 1500, "available_column": "available_t"},
       "lab":   {"file": "lab_samples.csv", "properties": ["cetane_number", "cfpp_C"],
-                "seed": 0}
+                "seed": 0},
+      "costs": "costs.json",
+      "model": "lab" or "lab_model.json" or ["a.json", "b.json"]
     }
 
 Every key has a type (text, number, list of text, ...) checked when the file is read;
@@ -26,6 +28,13 @@ the scenario's folder (or below it): absolute paths and ``..`` leading out of it
 refused unless the caller allows it (``report --allow-outside``), so a scenario
 received from someone else reads nothing else on the machine.
 
+``costs`` names a costs file (:func:`estimator.sourcing.read_costs`) used by the
+comparison and the mix. ``model`` makes lab models drive the decisions: their
+properties replace the published estimates in the comparison's verdicts and
+ranking, the blend and the mix; ``"lab"`` uses the models the ``lab`` part fits
+(which then runs first). ``mix`` also takes ``margin_bands`` (see
+:func:`estimator.mixing.least_cost_mix`; default 1).
+
 Nothing here prints or draws; :mod:`estimator.report.scenario_report` writes the files.
 """
 
@@ -33,6 +42,7 @@ from __future__ import annotations
 
 import json
 import math
+import tempfile
 from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -46,7 +56,8 @@ __all__ = ["Scenario", "ScenarioResult", "read_scenario", "run_scenario"]
 #: list of text, or one text), levels (a list of numbers or '0,2,5'), class (a climate
 #: class as text or a number 0-4), flag (true/false).
 _TYPES = {
-    "": {"title": "text", "lots": "part", "blend": "part", "mix": "part", "lab": "part"},
+    "": {"title": "text", "lots": "part", "blend": "part", "mix": "part", "lab": "part",
+         "costs": "text", "model": "texts"},
     "lots": {"file": "text", "basis": "text", "specs": "texts", "climate_class": "class",
              "pretreat": "text", "methanol_ratio": "number", "sum_tolerance": "number",
              "fractions": "flag"},
@@ -54,7 +65,7 @@ _TYPES = {
               "max_cfpp_C": "number", "max_cloud_point_C": "number", "specs": "texts"},
     "mix": {"spec": "text", "climate_class": "class", "max_cfpp_C": "number",
             "max_cloud_point_C": "number", "demand_t": "number", "available_column": "text",
-            "pretreat": "text"},
+            "pretreat": "text", "margin_bands": "number"},
     "lab": {"file": "text", "properties": "texts", "seed": "count", "basis": "text",
             "fractions": "flag"},
 }
@@ -77,6 +88,8 @@ class Scenario:
     mix: dict[str, Any] | None = None
     lab: dict[str, Any] | None = None
     allow_outside: bool = False
+    costs: str | None = None
+    model: tuple[str, ...] = ()
 
     def resolve(self, name: str, key: str = "file") -> Path:
         """A path named in the scenario, relative to the scenario file.
@@ -102,9 +115,10 @@ class Scenario:
         return path
 
     def input_files(self) -> list[Path]:
-        """The scenario file and every file it names (lots, diesel, lab), resolved."""
+        """The scenario file and every file it names (lots, diesel, lab, costs, models)."""
         names = [self.lots.get("file"), (self.blend or {}).get("diesel"),
-                 (self.lab or {}).get("file")]
+                 (self.lab or {}).get("file"), self.costs,
+                 *(m for m in self.model if m != "lab")]
         return [self.path, *(self.resolve(n) for n in names if isinstance(n, str) and n)]
 
 
@@ -120,6 +134,9 @@ class ScenarioResult:
     fits: list = field(default_factory=list)
     lab_profile: Any = None
     models: list = field(default_factory=list)
+    costs: Any = None
+    #: Properties a lab model gave in the decisions (``property -> how``).
+    model_properties: dict = field(default_factory=dict)
 
 
 def read_scenario(path: str | Path, *, allow_outside: bool = False) -> Scenario:
@@ -186,8 +203,19 @@ def read_scenario(path: str | Path, *, allow_outside: bool = False) -> Scenario:
     if parts["lab"] is not None and "file" not in parts["lab"]:
         raise InputFileError(f"{label}: 'lab' needs 'file' and a list of 'properties' to refit")
     title = str(data.get("title") or path.stem)
+    costs = data.get("costs")
+    if costs is not None and not isinstance(costs, str):
+        raise InputFileError(f"{label}: 'costs' must be the name of a costs JSON file")
+    model = data.get("model")
+    models = (model,) if isinstance(model, str) else tuple(model) if isinstance(
+        model, list) else () if model is None else None
+    if models is None or not all(isinstance(m, str) and m for m in models):
+        raise InputFileError(f"{label}: 'model' must be \"lab\", a model file name or a list "
+                             "of them")
+    if "lab" in models and parts["lab"] is None:
+        raise InputFileError(f"{label}: 'model' is \"lab\" but there is no 'lab' part to fit")
     return Scenario(path, title, parts["lots"], parts["blend"], parts["mix"], parts["lab"],
-                    allow_outside)
+                    allow_outside=allow_outside, costs=costs, model=models)
 
 
 def _check_type(value: Any, kind: str, key: str, label: str) -> Any:
@@ -230,44 +258,79 @@ def _check_keys(obj: dict, part: str, label: str) -> None:
         )
 
 
-def run_scenario(scenario: Scenario, *, progress=None) -> ScenarioResult:
-    """Run every part of a scenario and return the results (no files written).
+def run_scenario(scenario: Scenario, *, progress=None, models=()) -> ScenarioResult:
+    """Run every part of a scenario and return the results (no output files written; with
+    ``"model": "lab"`` the fitted models pass through a temporary model file).
 
     ``progress`` is an optional callable taking a short text, called before each part.
+    ``models``: model files (paths as given, e.g. on the command line) added to the
+    scenario's ``model`` key.
     """
     from estimator.comparison import compare_lots
     from estimator.profiles.io import read_profile
     from estimator.specs import normalise_climate_class
 
     say = progress or (lambda text: None)
+    with tempfile.TemporaryDirectory(prefix="fame-scenario-") as tmp:
+        return _run(scenario, say, Path(tmp), compare_lots, read_profile,
+                    normalise_climate_class, [str(m) for m in models])
+
+
+def _run(scenario: Scenario, say, tmp: Path, compare_lots, read_profile,
+         normalise_climate_class, extra_models: list[str]) -> ScenarioResult:
     lots = scenario.lots
-    say("comparing the lots")
+    costs = None
+    if scenario.costs is not None:
+        from estimator.sourcing import read_costs
+
+        costs = read_costs(scenario.resolve(scenario.costs, "'costs'"))
     profile = read_profile(
         scenario.resolve(lots["file"], "'lots.file'"), basis=lots.get("basis", "fame"),
         sum_tolerance=float(lots.get("sum_tolerance", 2.0)),
         fractions=bool(lots.get("fractions", False)),
     )
-    comparison = compare_lots(
+    result = ScenarioResult(scenario, profile, None, costs=costs)
+    models: list[str] = []
+    if "lab" in scenario.model:
+        say("refitting on the lab samples")
+        with _part(scenario, "lab"):
+            _run_lab(scenario, result)
+        models.append(str(_lab_model_file(scenario, result, tmp)))
+    models += [str(scenario.resolve(m, "'model'")) for m in scenario.model if m != "lab"]
+    models += extra_models
+    say("comparing the lots")
+    result.comparison = compare_lots(
         profile,
         spec_names=tuple(lots.get("specs", ("en14214", "astm-d6751"))),
         climate_class=normalise_climate_class(lots.get("climate_class")),
         pretreat=lots.get("pretreat", "none"),
         methanol_ratio=float(lots.get("methanol_ratio", 6.0)),
+        costs=costs, models=models,
     )
-    result = ScenarioResult(scenario, profile, comparison)
+    result.model_properties = dict(result.comparison.model_properties or {})
     if scenario.blend is not None:
         say("blending with diesel")
         with _part(scenario, "blend"):
-            result.blend = _run_blend(scenario, profile)
+            result.blend = _run_blend(scenario, profile, result.comparison.estimates
+                                      if models else None)
     if scenario.mix is not None:
         say("finding the least-cost mix")
         with _part(scenario, "mix"):
-            result.mix = _run_mix(scenario, profile)
-    if scenario.lab is not None:
+            result.mix = _run_mix(scenario, profile, models, costs)
+    if scenario.lab is not None and not result.fits:
         say("refitting on the lab samples")
         with _part(scenario, "lab"):
             _run_lab(scenario, result)
     return result
+
+
+def _lab_model_file(scenario: Scenario, result: ScenarioResult, tmp: Path) -> Path:
+    """The lab part's models as a model file in ``tmp`` (read back like any --model file)."""
+    from estimator.refit import file_provenance, save_models
+
+    lab_path = scenario.resolve(scenario.lab["file"], "'lab.file'")
+    return save_models(result.models, tmp / "lab_model.json",
+                       file_provenance(lab_path, len(result.lab_profile)))
 
 
 @contextmanager
@@ -284,7 +347,7 @@ def _part(scenario: Scenario, name: str):
         raise type(exc)(f"{scenario.path.name}: '{name}': {text}") from None
 
 
-def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
+def _run_blend(scenario: Scenario, profile, long=None) -> dict[str, Any]:
     import numpy as np
 
     from estimator import blend_targets, blending
@@ -294,16 +357,18 @@ def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
     beside = scenario.path.parent / diesel_name
     if Path(diesel_name).suffix.lower() in (".json", ".csv") or beside.exists() \
             or Path(diesel_name).is_absolute():
-        fuel = blending.load_diesel(str(scenario.resolve(diesel_name, "'blend.diesel'")))
+        diesel_source = str(scenario.resolve(diesel_name, "'blend.diesel'"))
     else:
-        fuel = blending.load_diesel(diesel_name)
+        diesel_source = diesel_name  # a built-in diesel
     grid = blending.parse_levels(spec.get("levels", "0,2,5,7,10,20,30,50,100"))
     targets = blend_targets.blend_targets(
         max_cfpp_C=spec.get("max_cfpp_C"), max_cloud_point_C=spec.get("max_cloud_point_C"),
         climate_class=spec.get("climate_class"),
         specs=list(spec.get("specs", ("en590", "astm-d7467"))),
     )
-    fame = blending.fame_component(profile.wt_pct, profile.samples)
+    fuel = blending.load_diesel(diesel_source,
+                                blending.needed_properties(t.property for t in targets))
+    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long)
     wide = blending.blend_wide(fame, fuel, grid)
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
     top = float(grid.max()) if grid.max() > 0 else 100.0
@@ -312,7 +377,7 @@ def _run_blend(scenario: Scenario, profile) -> dict[str, Any]:
             "curve": curve, "summary": blend_targets.summary_table(highest) if targets else None}
 
 
-def _run_mix(scenario: Scenario, profile):
+def _run_mix(scenario: Scenario, profile, models=(), costs=None):
     from estimator import mixing
     from estimator.specs import normalise_climate_class
 
@@ -327,6 +392,7 @@ def _run_mix(scenario: Scenario, profile):
         profile, constraints, demand_t=spec.get("demand_t"),
         available_column=spec.get("available_column"), pretreat=spec.get("pretreat", "none"),
         spec=name, climate_class=climate_class,
+        margin_bands=float(spec.get("margin_bands", 1.0)), models=models, costs=costs,
     )
 
 

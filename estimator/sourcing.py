@@ -13,9 +13,22 @@ The stoichiometry is exact and takes the molar masses from the profile:
   and the most the water could cost if it were not (each molecule hydrolysing one
   ester bond into FFA, then soap) is reported beside it.
 
-Cost per tonne of fuel is the oil price divided by the fuel yield (t fuel per t
-oil): the feedstock cost of the fuel, before methanol, catalyst, energy and the
-glycerol credit.
+Cost per tonne of fuel is what a tonne of oil costs to buy and process, divided
+by the fuel yield (t fuel per t oil):
+
+.. math::
+
+    c = \frac{p + c_{MeOH} + c_{cat} + c_{pre} - c_{gly}}{y}
+
+with the oil price :math:`p`, the methanol bought (consumed plus the unrecovered
+part of the excess charged, so the methanol ratio changes the cost), the base
+catalyst (its dose plus what the FFA neutralises), the acid pretreatment (per
+tonne of FFA converted) and the glycerol credit, each per tonne of oil. The prices
+and uses come from a costs file (:func:`read_costs`, JSON, keys in
+:data:`COST_KEYS`); without one, the defaults of :data:`DEFAULT_COSTS` apply and
+are stated as assumptions. ``feedstock_cost_per_t_fuel`` keeps the oil price over
+the yield alone. An antioxidant dose (per tonne of fuel) is added by the
+comparison to lots whose oxidation stability needs it.
 
 The yields are theoretical (complete conversion, no handling losses); plants
 recover less. Every assumption is a row of :func:`assumptions`, which the outputs
@@ -24,10 +37,15 @@ show.
 
 from __future__ import annotations
 
+import json
+import math
+from dataclasses import dataclass, replace
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 
-from estimator.errors import ProfileError, UsageError
+from estimator.errors import InputFileError, ProfileError, UsageError
 from estimator.properties.descriptors import (
     MOLAR_MASS_GLYCEROL,
     MOLAR_MASS_KOH,
@@ -37,12 +55,17 @@ from estimator.properties.descriptors import (
 )
 
 __all__ = [
+    "COST_KEYS",
+    "DEFAULT_COSTS",
     "DEFAULT_METHANOL_RATIO",
+    "FIXABLE_BY_TREATMENT",
+    "ProcessCosts",
     "FFA_BASE_LIMIT_WT_PCT",
     "PRETREATMENTS",
     "WATER_BASE_LIMIT_WT_PCT",
     "assumptions",
     "lot_inputs",
+    "read_costs",
     "stoichiometry",
     "value_lots",
 ]
@@ -62,6 +85,105 @@ WATER_BASE_LIMIT_WT_PCT = 0.06
 MAX_PRICE_PER_T = 1e9
 #: Largest tonnage of one lot taken as a tonnage [t]. # common practice
 MAX_TONNAGE_T = 1e9
+#: The costs file's keys: (meaning [unit], default, basis of the default). Prices are in
+#: the currency of the lots' ``price_per_t``. The defaults are round illustrative
+#: numbers, not market data: give your own in a costs file.
+COST_KEYS = {
+    "methanol_price_per_t": (
+        "price of methanol [currency/t]", 400.0,
+        "assumption: a round illustrative price; replace with your own"),
+    "methanol_recovered_pct": (
+        "share of the excess methanol charged that is recovered and reused [%]", 90.0,
+        "assumption (common practice: the excess is distilled off and recycled, with losses)"),
+    "catalyst_price_per_t": (
+        "price of the base catalyst (KOH) [currency/t]", 1000.0,
+        "assumption: a round illustrative price; replace with your own"),
+    "catalyst_wt_pct_of_oil": (
+        "base catalyst dose on top of what the FFA neutralises [wt % of the oil]", 1.0,
+        "common practice: about 1 wt % KOH on refined oil"),
+    "acid_pretreatment_cost_per_t_ffa": (
+        "acid pretreatment cost per tonne of FFA converted (acid catalyst, methanol excess, "
+        "drying, energy) [currency/t FFA]", 150.0,
+        "assumption: a round illustrative number; replace with your plant's"),
+    "antioxidant_cost_per_t_fuel": (
+        "antioxidant dose that brings oxidation stability to the limit [currency/t fuel]",
+        15.0, "assumption: a round illustrative number; replace with your supplier's"),
+    "glycerol_credit_per_t": (
+        "value of the crude glycerol by-product [currency/t glycerol]", 150.0,
+        "assumption: a round illustrative price; replace with your own"),
+}
+
+#: Failures a buyer can fix by treating the fuel: property -> treatment.
+FIXABLE_BY_TREATMENT = {"oxidation_stability_110C_h": "antioxidant dose"}
+
+
+@dataclass(frozen=True)
+class ProcessCosts:
+    """Prices and uses of the processing inputs (see :data:`COST_KEYS`)."""
+
+    methanol_price_per_t: float = COST_KEYS["methanol_price_per_t"][1]
+    methanol_recovered_pct: float = COST_KEYS["methanol_recovered_pct"][1]
+    catalyst_price_per_t: float = COST_KEYS["catalyst_price_per_t"][1]
+    catalyst_wt_pct_of_oil: float = COST_KEYS["catalyst_wt_pct_of_oil"][1]
+    acid_pretreatment_cost_per_t_ffa: float = COST_KEYS["acid_pretreatment_cost_per_t_ffa"][1]
+    antioxidant_cost_per_t_fuel: float = COST_KEYS["antioxidant_cost_per_t_fuel"][1]
+    glycerol_credit_per_t: float = COST_KEYS["glycerol_credit_per_t"][1]
+    #: Keys the costs file gave (the rest are defaults); ``"defaults"`` without a file.
+    source: str = "defaults"
+    given: tuple[str, ...] = ()
+
+    @classmethod
+    def zero(cls) -> ProcessCosts:
+        """Every processing cost and credit zero: the feedstock cost alone."""
+        return cls(**{k: 0.0 for k in COST_KEYS}, source="zero", given=tuple(COST_KEYS))
+
+
+#: The costs used when no costs file is given.
+DEFAULT_COSTS = ProcessCosts()
+
+
+def read_costs(path: str | Path) -> ProcessCosts:
+    """Read a costs file: one JSON object with any of the keys of :data:`COST_KEYS`.
+
+    Keys left out keep their default (and the report says so). Every value is a
+    finite number >= 0; percentages at most 100; unknown keys are refused with the
+    known ones.
+
+    Examples
+    --------
+    >>> import json, pathlib, tempfile
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "costs.json"
+    >>> _ = p.write_text(json.dumps({"methanol_price_per_t": 520}))
+    >>> c = read_costs(p)
+    >>> c.methanol_price_per_t, c.given
+    (520.0, ('methanol_price_per_t',))
+    """
+    path = Path(path)
+    label = path.name
+    if not path.is_file():
+        raise InputFileError(f"{label}: no such file")
+    try:
+        raw = json.loads(path.read_text(encoding="utf-8"))
+    except (UnicodeDecodeError, json.JSONDecodeError, RecursionError, ValueError) as exc:
+        raise InputFileError(f"{label}: not valid JSON ({str(exc)[:80]})") from None
+    if not isinstance(raw, dict):
+        raise InputFileError(f"{label}: expected one JSON object of cost key: number")
+    raw = {k: v for k, v in raw.items() if not str(k).startswith("_")}  # "_comment" keys
+    unknown = [k for k in raw if k not in COST_KEYS]
+    if unknown:
+        raise InputFileError(f"{label}: unknown key {str(unknown[0])[:40]!r}; a costs file "
+                             f"takes {', '.join(COST_KEYS)} (keys starting with _ are comments)")
+    values = {}
+    for key, val in raw.items():
+        ok = isinstance(val, (int, float)) and not isinstance(val, bool)
+        num = float(val) if ok and abs(val) < 1e300 else math.nan
+        if not (ok and math.isfinite(num) and num >= 0):
+            raise InputFileError(f"{label}: key {key!r}: {str(val)[:40]!r} is not a number >= 0")
+        if key.endswith("_pct") and num > 100:
+            raise InputFileError(f"{label}: key {key!r}: {num:g} is above 100 %")
+        values[key] = num
+    return replace(DEFAULT_COSTS, **values, source=label, given=tuple(values))
+
 
 #: Metadata columns the valuation reads, with what each is.
 LOT_COLUMNS = {
@@ -213,7 +335,8 @@ def _check_options(pretreat: str, methanol_ratio: float) -> None:
 
 
 def value_lots(
-    profile, *, pretreat: str = "none", methanol_ratio: float = DEFAULT_METHANOL_RATIO
+    profile, *, pretreat: str = "none", methanol_ratio: float = DEFAULT_METHANOL_RATIO,
+    costs: ProcessCosts | None = None,
 ) -> pd.DataFrame:
     """Fuel yield, by-products, reagents and cost per tonne of fuel for each lot.
 
@@ -227,13 +350,21 @@ def value_lots(
         is esterified to FAME before the base step.
     methanol_ratio : float
         Methanol : triglyceride molar ratio charged (>= 3). [mol/mol]
+    costs : ProcessCosts, optional
+        Prices and uses of methanol, catalyst, pretreatment and glycerol (default
+        :data:`DEFAULT_COSTS`; :meth:`ProcessCosts.zero` gives the feedstock cost alone).
 
     Returns
     -------
     DataFrame
         One row per lot (``sample`` first); yields in t per t of oil as offered,
-        side streams in kg per t of oil, ``cost_per_t_fuel`` in the price's currency
-        per tonne of fuel (NaN without a price), and ``valuation_note``.
+        side streams in kg per t of oil, the processing costs per t of oil
+        (``methanol_cost_per_t_oil``, ``catalyst_cost_per_t_oil``,
+        ``pretreatment_cost_per_t_oil``, ``glycerol_credit_per_t_oil``),
+        ``processing_cost_per_t_fuel`` (those net of the credit, over the yield),
+        ``feedstock_cost_per_t_fuel`` (oil price over yield) and ``cost_per_t_fuel``
+        (their sum; NaN without a price), in the price's currency, and
+        ``valuation_note``.
 
     Examples
     --------
@@ -246,6 +377,7 @@ def value_lots(
      'water_wt_pct not given: taken as 0']
     """
     _check_options(pretreat, float(methanol_ratio))
+    costs = DEFAULT_COSTS if costs is None else costs
     inputs = lot_inputs(profile)
     s = stoichiometry(profile.wt_pct)
     price = inputs["price_per_t"].to_numpy(dtype=float)
@@ -285,8 +417,24 @@ def value_lots(
         "water_from_esterification_kg_per_t_oil": ffa_kmol * MOLAR_MASS_WATER if acid else zero,
         "water_removed_kg_per_t_oil": 1000.0 * water,
         "water_hydrolysis_max_loss_t_per_t_oil": water / MOLAR_MASS_WATER * m_fame,
-        "cost_per_t_fuel": price / fuel,
     })
+    charged = table["methanol_charged_kg_per_t_oil"].to_numpy() / 1000.0
+    consumed = table["methanol_consumed_kg_per_t_oil"].to_numpy() / 1000.0
+    lost = (charged - consumed) * (1.0 - costs.methanol_recovered_pct / 100.0)
+    catalyst = (costs.catalyst_wt_pct_of_oil / 100.0
+                + table["koh_to_neutralise_ffa_kg_per_t_oil"].to_numpy() / 1000.0)
+    table["methanol_cost_per_t_oil"] = (consumed + lost) * costs.methanol_price_per_t
+    table["catalyst_cost_per_t_oil"] = catalyst * costs.catalyst_price_per_t
+    table["pretreatment_cost_per_t_oil"] = (ffa * costs.acid_pretreatment_cost_per_t_ffa
+                                            if acid else zero)
+    table["glycerol_credit_per_t_oil"] = (table["glycerol_kg_per_t_oil"].to_numpy() / 1000.0
+                                          * costs.glycerol_credit_per_t)
+    processing = (table["methanol_cost_per_t_oil"] + table["catalyst_cost_per_t_oil"]
+                  + table["pretreatment_cost_per_t_oil"] - table["glycerol_credit_per_t_oil"])
+    table["processing_cost_per_t_fuel"] = processing.to_numpy() / fuel
+    table["feedstock_cost_per_t_fuel"] = price / fuel
+    table["cost_per_t_fuel"] = table["feedstock_cost_per_t_fuel"] + table[
+        "processing_cost_per_t_fuel"]
     table["valuation_note"] = _notes(price, ffa_given, water_given, acid)
     return table
 
@@ -318,9 +466,13 @@ def _notes(price, ffa, water, acid: bool) -> list[str]:
 
 
 def assumptions(
-    *, pretreat: str = "none", methanol_ratio: float = DEFAULT_METHANOL_RATIO
+    *, pretreat: str = "none", methanol_ratio: float = DEFAULT_METHANOL_RATIO,
+    costs: ProcessCosts | None = None,
 ) -> pd.DataFrame:
     """Every assumption of the valuation as a row: ``assumption``, ``value``, ``basis``.
+
+    Each cost of :data:`COST_KEYS` is a row: the value used, and whether it came from
+    the costs file or is the stated default.
 
     Examples
     --------
@@ -360,9 +512,18 @@ def assumptions(
          "MEMORY: same source as the FFA limit"),
         ("missing FFA or water", "taken as 0, with a note on the lot",
          "the yield is then an upper bound"),
-        ("cost per tonne of fuel", "price_per_t / fuel_yield_t_per_t_oil",
-         "feedstock cost only: no methanol, catalyst, energy or glycerol credit"),
+        ("cost per tonne of fuel",
+         "(price_per_t + methanol + catalyst + acid pretreatment - glycerol credit, each per "
+         "t of oil) / fuel_yield_t_per_t_oil; plus the antioxidant dose for lots that need it",
+         "energy, labour and capital are not counted"),
+        ("methanol bought", "consumed + (1 - recovered share) x excess charged",
+         "a higher methanol ratio charges more excess, so it costs more"),
         ("missing price", "cost left empty (NaN), with a note on the lot",
          "properties and verdicts are still given"),
     ]
+    costs = DEFAULT_COSTS if costs is None else costs
+    for key, (meaning, _default, basis) in COST_KEYS.items():
+        given = key in costs.given
+        rows.append((f"{key}: {meaning}", f"{getattr(costs, key):g}",
+                     f"from {costs.source}" if given else f"default; {basis}"))
     return pd.DataFrame(rows, columns=["assumption", "value", "basis"])

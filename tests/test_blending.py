@@ -392,8 +392,51 @@ def test_blend_spec_groups_carry_their_fame_content():
     assert en590 == {(7.0, 0.0)} and d7467 == {(20.0, 6.0)}
 
 
+def test_vectorised_bisection_finds_the_same_levels_as_scipy_brentq():
+    # reference library: scipy.optimize.brentq on the same continuous blend curves, per FAME
+    from scipy.optimize import brentq
+
+    profile = Profile.from_oils(["rapeseed", "soybean", "palm", "beef-tallow", "coconut"])
+    fame = b.fame_component(profile.wt_pct, profile.samples)
+    diesel = b.load_diesel("en590-winter")
+    targets = [bt.Target("cloud_point_C", "max", -3.0, "CP <= -3"),
+               bt.Target("density_15C_kg_m3", "max", 845.0, "density <= 845")]
+    levels = bt.highest_levels(fame, diesel, targets)
+    for t in targets:
+        for i, sample in enumerate(fame.samples):
+            one = bt._take(fame, [i])
+
+            def g(level, one=one, t=t):
+                v = b.blend_arrays(one, diesel, [level], only=t.property)[
+                    t.property, b.BLEND_METHODS[t.property][0]][0][0, 0]
+                return v - t.limit
+
+            row = levels[(levels["sample"] == sample) & (levels["target"] == t.label)].iloc[0]
+            if row["how"] != "root of the blend curve":
+                continue
+            grid = np.linspace(0, 100, 101)
+            j = int(np.argmax([g(x) > 0 for x in grid]))
+            expected = brentq(g, grid[j - 1], grid[j], xtol=1e-9)
+            assert row["highest_level_pct_v"] == pytest.approx(expected, abs=1e-4)
+
+
+def test_the_blend_level_search_never_imports_a_root_finder():
+    # regression (speed issue): the level search is NumPy only, so 'blend' starts fast
+    import subprocess
+    import sys
+
+    code = ("import sys; from estimator import blend_targets as bt, blending as b; "
+            "from estimator.profiles.profile import Profile; "
+            "p = Profile.from_oils(['rapeseed']); f = b.fame_component(p.wt_pct, p.samples); "
+            "bt.highest_levels(f, b.load_diesel('en590-winter'), bt.blend_targets()); "
+            "print('scipy' in sys.modules)")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          check=True)
+    assert done.stdout.strip() == "False"
+
+
 def test_highest_level_is_the_root_of_the_continuous_blend_curve():
-    # Consistency (our arithmetic): the brentq level lies on the target and matches the
+    # Consistency (our arithmetic): the bisection level lies on the target and matches the
     # first crossing of a dense 0.001 % v/v grid; every lower level meets the target.
     fame, diesel = _fame(_neat(cfpp_C=5.0)), _diesel(cfpp_C=-24.0)
     target = bt.Target("cfpp_C", "max", -20.0, "CFPP <= -20")

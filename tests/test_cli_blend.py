@@ -96,10 +96,10 @@ def test_blend_diesel_file_missing_a_property_says_which(tmp_path):
     values = json.loads(Path(WINTER).read_text())
     del values["cloud_point_C"]
     path.write_text(json.dumps(values))
-    result = run(blend, "--oil", "rapeseed", "--diesel", path)
+    result = run(blend, "--oil", "rapeseed", "--diesel", path, "--max-cloud-point", "-8")
     assert result.exit_code == 1
     assert result.output.startswith("fame-estimator: error: depot.json: diesel description "
-                                    "lacks 'cloud_point_C' [°C]; it needs ")
+                                    "lacks 'cloud_point_C' [°C]; this question needs ")
     assert result.output.count("\n") == 1
 
 
@@ -117,11 +117,12 @@ PARK = ("--method", "oxidation_stability_110C_h=park2008")
 
 def test_mix_prints_shares_cost_limits_and_verdict():
     result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500",
-                 *PARK)
+                 "--margin", "0", *PARK)
     assert result.exit_code == 0, result.output
     out = result.output
     assert "Least-cost mix (shares of the fuel's mass" in out
-    assert "feedstock cost of the mixed fuel: 930.8 per t of fuel (linprog (HiGHS))" in out
+    assert "cost of the mixed fuel (oil, methanol, catalyst, pretreatment, less the glycerol " \
+        "credit): 979.3 per t of fuel (linprog (HiGHS))" in out  # regression
     assert "oxidation stability >= 8 h" in out and "binding" in out
     assert "verdict with the stated errors: en14214 " in out
     assert out.rstrip().endswith(CAUTION_SHORT)
@@ -130,7 +131,7 @@ def test_mix_prints_shares_cost_limits_and_verdict():
 def test_mix_writes_lot_shares_and_sheets_of_properties_and_verdicts(tmp_path):
     out = tmp_path / "mix.xlsx"
     result = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500",
-                 "-o", out, *PARK)
+                 "--margin", "0", *PARK, "-o", out)
     assert result.exit_code == 0, result.output
     sheets = pd.read_excel(out, sheet_name=None)
     assert set(sheets) == {"table", "properties", "limits", "profile", "cautions"}
@@ -151,7 +152,8 @@ def test_mix_csv_writes_sibling_files_with_the_caution(tmp_path):
 
 
 def test_mix_infeasible_prints_the_report_and_exits_1():
-    result = CliRunner().invoke(mix, [LOTS, "--basis", "fatty-acid", "--max-cfpp", "-15"])
+    result = CliRunner().invoke(mix, [LOTS, "--basis", "fatty-acid", "--max-cfpp", "-15",
+                                      "--margin", "0"])
     assert result.exit_code == 1
     assert "No mix of the lots meets every limit. Least-violating mix:" in result.stdout
     assert "CFPP <= -15 °C" in result.stdout
@@ -187,3 +189,125 @@ def test_mix_report_is_a_self_contained_page_with_the_caution(tmp_path):
     text = page.read_text(encoding="utf-8")
     assert "Least-cost mix of lots" in text and "Limits on the mixed fuel" in text
     assert "data:image/png;base64," in text and CAUTION_SHORT in text
+
+
+# ---------------------------------------------------------------- decisions
+def _diesel_file(tmp_path, **values) -> Path:
+    """An invented depot diesel, from the demo diesel with some values changed."""
+    data = json.loads(Path(WINTER).read_text())
+    data.update(values)
+    data = {k: v for k, v in data.items() if v is not None}
+    path = tmp_path / "depot.json"
+    path.write_text(json.dumps(data))
+    return path
+
+
+def test_blend_with_a_diesel_missing_en590_cetane_says_so_in_every_affected_cell(tmp_path):
+    # EN 590: cetane number >= 51 (standards.md 3.3); a diesel of 45 misses it alone
+    path = _diesel_file(tmp_path, cetane_number=45.0)
+    result = run(blend, "--oil", "rapeseed", "--oil", "palm", "--diesel", path,
+                 "--levels", "0,7")
+    assert result.exit_code == 0, result.output
+    for lot in ("rapeseed", "palm"):
+        row = next(line for line in result.output.splitlines() if line.startswith(f"{lot} "))
+        assert "none: diesel alone misses cetane number >= 51 (45)" in row
+
+
+def test_blend_cold_flow_cell_names_a_diesel_whose_cfpp_misses_the_grade(tmp_path):
+    # EN 590 grade F: CFPP <= -20 °C (standards.md 3.4); a diesel at -15 misses it alone
+    result = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter", "--climate-class", "F",
+                 "--spec", "none")
+    assert result.exit_code == 0, result.output
+    assert "none: diesel alone misses CFPP <= -20 °C (-15)" in result.output
+
+
+def test_en590_column_says_the_fame_fails_en14214_instead_of_b7():
+    # soybean FAME fails EN 14214 on iodine value (common practice); EN 590 admits only
+    # EN 14214 FAME (EN 590:2022, standards.md 3.3)
+    result = run(blend, "--oil", "soybean", "--oil", "rapeseed", "--diesel", "en590-summer",
+                 "--levels", "0,7")
+    assert result.exit_code == 0, result.output
+    soy = next(line for line in result.output.splitlines() if line.startswith("soybean "))
+    rape = next(line for line in result.output.splitlines() if line.startswith("rapeseed "))
+    assert "FAME fails EN 14214 (iodine value)" in soy and "B7.0" not in soy
+    assert "B7.0" in rape  # fails only oxidation stability, which an antioxidant fixes
+
+
+@pytest.mark.parametrize("values, message", [
+    ({"density_15C_kg_m3": 0.828}, "'density_15C_kg_m3' 0.828 looks like g/cm³"),
+    ({"cloud_point_C": 263.0}, "'cloud_point_C' 263 looks like kelvin"),
+    ({"kin_viscosity_40C_mm2_s": 2700.0}, "'kin_viscosity_40C_mm2_s' 2700 looks like the "
+                                          "wrong unit"),
+    ({"cetane_number": -5.0}, "'cetane_number' -5 is outside 30 to 100"),
+    ({"cloud_point_C": 1e308}, "'cloud_point_C' 1e+308 is outside -60 to 25 °C"),
+    ({"cetane_number": True}, "key 'cetane_number': not a number: True"),
+])
+def test_a_diesel_file_with_a_unit_slip_or_a_wrong_type_is_refused_with_one_line(
+        tmp_path, values, message):
+    path = _diesel_file(tmp_path, **values)
+    result = run(blend, "--oil", "rapeseed", "--diesel", path, "--max-cloud-point", "-8")
+    assert result.exit_code == 1
+    assert result.output.startswith(f"fame-estimator: error: depot.json: {message}")
+    assert result.output.count("\n") == 1
+
+
+def test_a_cold_flow_question_needs_no_heating_value_in_the_diesel_file(tmp_path):
+    path = tmp_path / "certificate.json"
+    path.write_text(json.dumps({"cfpp_C": -24.0}))  # invented certificate
+    result = run(blend, "--oil", "rapeseed", "--diesel", path, "--max-cfpp", "-20",
+                 "--spec", "none", "--levels", "0,5,10")
+    assert result.exit_code == 0, result.output
+    assert "CFPP [°C]" in result.output and "HHV" not in result.output
+
+
+def test_a_fame_without_saturated_esters_has_a_blend_cloud_point(tmp_path):
+    lots = tmp_path / "oleate.csv"
+    lots.write_text("sample,C18:1,C18:2\nhigh-oleic (synthetic),90,10\n")
+    result = run(blend, lots, "--diesel", "en590-winter", "--max-cloud-point", "-4",
+                 "--spec", "none", "--levels", "0,5,20")
+    assert result.exit_code == 0, result.output
+    row = next(line for line in result.output.splitlines() if line.startswith("high-oleic"))
+    assert "none" not in row and "B99" in row  # met up to the last computable level
+
+
+def test_blend_with_o_still_prints_the_highest_levels_and_quiet_silences_them(tmp_path):
+    out = tmp_path / "b.csv"
+    result = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter", "-o", out)
+    assert result.exit_code == 0
+    assert "Highest blend level" in result.stdout and "wrote" in result.stderr
+    quiet = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter", "-o", out, "--quiet")
+    assert quiet.exit_code == 0 and quiet.stdout == ""
+
+
+def test_mix_margin_1_keeps_every_limit_one_band_inside_or_says_none_exists():
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--spec", "astm-d6751", "--max-cfpp", "0",
+                 "--margin", "1")
+    assert result.exit_code == 0, result.output
+    assert "required: 1 (--margin)" in result.output
+    from estimator import mixing
+    from estimator.profiles.io import read_profile
+
+    lots = read_profile(LOTS, basis="fatty-acid")
+    res = mixing.least_cost_mix(lots, mixing.mix_constraints("astm-d6751", max_cfpp_C=0.0),
+                                spec="astm-d6751", margin_bands=1.0)
+    assert res.feasible
+    c = res.constraints
+    banded = c["error"] > 0
+    assert (c.loc[banded, "headroom_bands"] >= 1.0 - 1e-6).all()
+    assert (c.loc[~banded, "headroom"] >= -1e-9).all()
+    assert set(res.verdicts["verdict"]) == {"meets"}  # no longer too close to call
+    none = run(mix, LOTS, "--basis", "fatty-acid", "--max-cfpp", "-5", "--demand-t", "1500",
+               "--margin", "1")
+    assert none.exit_code == 1
+    assert "No mix of the lots stays 1 stated error(s) inside every limit" in none.stdout
+    assert "a smaller --margin may find one" in none.stderr
+
+
+def test_mix_with_o_prints_the_shares_then_what_was_written_and_quiet_silences(tmp_path):
+    out = tmp_path / "mix.csv"
+    result = run(mix, LOTS, "--basis", "fatty-acid", "--margin", "0", "-o", out)
+    assert result.exit_code == 0, result.output
+    assert "Least-cost mix" in result.stdout and "headroom" in result.stdout
+    assert f"wrote {out}" in result.stderr
+    quiet = run(mix, LOTS, "--basis", "fatty-acid", "--margin", "0", "-o", out, "-q")
+    assert quiet.exit_code == 0 and quiet.stdout == ""

@@ -177,3 +177,89 @@ def test_compare_help_shows_examples():
     result = run(compare, "--help")
     assert result.exit_code == 0
     assert "Examples:" in result.output and "--pretreat acid" in result.output
+
+
+# ----------------------------------------------------------------------------- decisions
+@pytest.fixture(scope="module")
+def lab_model(tmp_path_factory):
+    """A lab model for oxidation stability, fitted on the invented demo lab samples."""
+    from estimator.cli import cli
+
+    out = tmp_path_factory.mktemp("model") / "lab_model.json"
+    result = CliRunner().invoke(cli, ["fit", str(ROOT / "data" / "demo" / "lab_samples.csv"),
+                                      "--property", "oxidation_stability_110C_h", "-o",
+                                      str(out)])
+    assert result.exit_code == 0, result.output
+    return out
+
+
+def test_compare_with_o_still_prints_the_ranking_then_what_was_written(tmp_path):
+    out = tmp_path / "lots"
+    result = run(compare, str(LOTS), "--basis", "fatty-acid", "--climate-class", "C",
+                 "-o", str(out))
+    assert result.exit_code == 0, result.output
+    assert "Lots ranked:" in result.stdout and "LOT-R1" in result.stdout
+    assert "fails: fixable by treatment" in result.stdout
+    assert f"wrote {out / 'comparison.csv'}" in result.stderr
+    quiet = run(compare, str(LOTS), "--basis", "fatty-acid", "-o", str(out), "--quiet")
+    assert quiet.exit_code == 0 and quiet.stdout == ""
+    assert "wrote" in quiet.stderr
+
+
+def test_check_with_o_prints_the_verdict_counts_and_quiet_silences_them(tmp_path):
+    out = tmp_path / "v.csv"
+    result = run(check, "--oil", "soybean", "-o", str(out))
+    assert result.exit_code == 0, result.output
+    assert "verdicts fail." in result.stdout and "soybean: EN 14214 fails" in result.stdout
+    assert "wrote" in result.stderr
+    quiet = run(check, "--oil", "soybean", "-o", str(out), "-q")
+    assert quiet.stdout == ""
+
+
+def test_compare_costs_file_changes_the_cost_and_the_report_says_where_it_came_from(tmp_path):
+    costs = tmp_path / "costs.json"
+    costs.write_text(json.dumps({"methanol_price_per_t": 0, "catalyst_price_per_t": 0,
+                                 "acid_pretreatment_cost_per_t_ffa": 0,
+                                 "antioxidant_cost_per_t_fuel": 0,
+                                 "glycerol_credit_per_t": 0}))
+    out = tmp_path / "lots"
+    result = run(compare, str(LOTS), "--basis", "fatty-acid", "--costs", str(costs),
+                 "-o", str(out), "-q")
+    assert result.exit_code == 0, result.output
+    table = pd.read_csv(out / "comparison.csv").set_index("sample")
+    assert (table["cost_per_t_fuel"] - table["feedstock_cost_per_t_fuel"]).abs().max() < 1e-6
+    html = (out / "report.html").read_text(encoding="utf-8")
+    assert "from costs.json" in html
+
+
+def test_compare_bad_costs_file_is_one_line(tmp_path):
+    costs = tmp_path / "costs.json"
+    costs.write_text(json.dumps({"methanol": 1}))
+    result = run(compare, str(LOTS), "--basis", "fatty-acid", "--costs", str(costs))
+    assert result.exit_code == 1
+    assert result.output.startswith("fame-estimator: error: costs.json: unknown key 'methanol'")
+    assert result.output.count("\n") == 1
+
+
+def test_check_and_compare_take_a_lab_model_and_say_which_properties_came_from_it(lab_model):
+    result = run(check, "--oil", "beef-tallow", "--spec", "en14214", "--model", str(lab_model))
+    assert result.exit_code == 0, result.output
+    assert "From the lab's model file(s), replacing the published estimates: " \
+           "oxidation_stability_110C_h (lab model" in result.output
+    compared = run(compare, str(LOTS), "--basis", "fatty-acid", "--model", str(lab_model))
+    assert compared.exit_code == 0, compared.output
+    assert "oxidation_stability_110C_h (lab model" in compared.output
+    assert "lab_model.json" in compared.output
+
+
+def test_mix_and_blend_take_a_lab_model(lab_model):
+    from estimator.cli_blend import blend, mix
+
+    mixed = run(mix, str(LOTS), "--basis", "fatty-acid", "--spec", "astm-d6751",
+                "--max-cfpp", "0", "--model", str(lab_model))
+    assert mixed.exit_code in (0, 1), mixed.output
+    assert "oxidation_stability_110C_h (lab model" in mixed.output
+    blended = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter",
+                  "--model", str(lab_model))
+    assert blended.exit_code == 0, blended.output
+    assert "oxidation_stability_110C_h (lab model" in blended.output

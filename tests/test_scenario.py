@@ -54,14 +54,22 @@ def test_demo_scenario_runs_compare_blend_and_mix(tmp_path, monkeypatch):
     monkeypatch.setitem(methods.DEFAULTS, "oxidation_stability_110C_h", "park2008")
     data = json.loads((DEMO / "scenario.json").read_text())
     data.pop("lab")
+    data.pop("model")
+    data["costs"] = str(DEMO / data["costs"])
     for part in ("lots", "blend"):
         key = "file" if part == "lots" else "diesel"
         data[part][key] = str(DEMO / data[part][key])
     result = run_scenario(read_scenario(scenario_file(tmp_path, data), allow_outside=True))
     assert len(result.comparison.ranked) == 7
-    # EN 590 allows at most B7 (standards.md 3.3): no lot's EN 590 answer exceeds it
-    assert all(str(v).startswith("B7.0") or str(v).startswith("B")
-               for v in result.blend["summary"]["EN 590"])
+    assert result.comparison.costs.source == "costs.json"
+    # EN 590 allows at most B7 (standards.md 3.3) and admits only EN 14214 FAME: each lot's
+    # EN 590 answer is a level up to B7 or says the FAME fails EN 14214
+    summary = result.blend["summary"].set_index("sample")["EN 590"]
+    for lot, cell in summary.items():
+        assert cell.startswith("B") or cell.startswith("FAME fails EN 14214"), (lot, cell)
+        if cell.startswith("B"):
+            assert float(cell[1:].split()[0].rstrip(":")) <= 7.0
+    assert summary["LOT-S1"].startswith("FAME fails EN 14214 (iodine value")
     assert result.mix.feasible
     assert result.mix.cost_per_t_fuel > 0
 
@@ -72,3 +80,30 @@ def test_an_error_inside_a_part_names_the_scenario_file_and_part(tmp_path):
     with pytest.raises(EstimatorError) as err:
         run_scenario(read_scenario(path, allow_outside=True))
     assert str(err.value) == "scenario.json: 'blend': levels: 500 is outside 0-100 % v/v"
+
+
+def test_a_scenario_model_of_lab_drives_the_ranking_with_the_labs_fit(tmp_path):
+    data = json.loads((DEMO / "scenario.json").read_text())
+    data["lab"]["properties"] = ["oxidation_stability_110C_h"]
+    data.pop("blend")
+    data.pop("mix")
+    for part, key in (("lots", "file"), ("lab", "file")):
+        data[part][key] = str(DEMO / data[part][key])
+    data["costs"] = str(DEMO / data["costs"])
+    result = run_scenario(read_scenario(scenario_file(tmp_path, data)))
+    assert list(result.model_properties) == ["oxidation_stability_110C_h"]
+    os_rows = result.comparison.verdicts[
+        result.comparison.verdicts["property"] == "oxidation_stability_110C_h"]
+    assert all(str(m).startswith("fit:") for m in os_rows["method"])
+    assert len(result.fits) == 1  # the lab part ran once, first
+
+
+@pytest.mark.parametrize("data, message", [
+    ({"lots": {"file": "x.csv"}, "model": "lab"}, "'model' is \"lab\" but there is no 'lab'"),
+    ({"lots": {"file": "x.csv"}, "model": 5}, "'model' must be \"lab\", a model file name"),
+    ({"lots": {"file": "x.csv"}, "costs": 5}, "'costs' must be the name of a costs JSON file"),
+])
+def test_bad_model_or_costs_keys_get_one_line(tmp_path, data, message):
+    with pytest.raises(EstimatorError) as err:
+        read_scenario(scenario_file(tmp_path, data))
+    assert message in str(err.value)

@@ -2,15 +2,27 @@
 
 from __future__ import annotations
 
+import json
+from pathlib import Path
+
 import numpy as np
 import pandas as pd
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from estimator.errors import ProfileError, UsageError
+from estimator.errors import InputFileError, ProfileError, UsageError
 from estimator.profiles.profile import Profile
-from estimator.sourcing import assumptions, lot_inputs, stoichiometry, value_lots
+from estimator.sourcing import (
+    COST_KEYS,
+    DEFAULT_COSTS,
+    ProcessCosts,
+    assumptions,
+    lot_inputs,
+    read_costs,
+    stoichiometry,
+    value_lots,
+)
 from estimator.tables import species_keys
 
 # Molar masses by hand from IUPAC conventional atomic weights C 12.011, H 1.008, O 15.999,
@@ -117,9 +129,105 @@ def test_water_yields_no_fuel_and_its_worst_case_loss_is_one_ester_per_molecule(
     assert "water 0.4 wt % above 0.06" in v["valuation_note"].item()
 
 
-def test_cost_per_tonne_of_fuel_is_price_over_yield():
+def test_feedstock_cost_per_tonne_of_fuel_is_price_over_yield():
     v = value_lots(_single("C18:1", price_per_t=900.0, ffa_wt_pct=1.0, water_wt_pct=0.0))
+    assert v["feedstock_cost_per_t_fuel"].item() == pytest.approx(
+        900.0 / v["fuel_yield_t_per_t_oil"].item())
+
+
+def test_with_every_processing_cost_zero_the_cost_is_the_feedstock_cost_alone():
+    v = value_lots(_single("C18:1", price_per_t=900.0, ffa_wt_pct=8.5, water_wt_pct=0.0),
+                   pretreat="acid", costs=ProcessCosts.zero())
     assert v["cost_per_t_fuel"].item() == pytest.approx(900.0 / v["fuel_yield_t_per_t_oil"].item())
+
+
+# Triolein worked by hand (stoichiometry, see TRIOLEIN above): per tonne of oil
+# 1000/885.453 kmol TG; at 6:1 the charge is 6 x that x 32.042 kg methanol, of which 3 x
+# is consumed; with 90 % of the excess recovered, methanol bought = consumed + 10 % excess.
+def test_methanol_cost_counts_the_unrecovered_excess_by_hand():
+    costs = ProcessCosts(methanol_price_per_t=500.0, methanol_recovered_pct=90.0,
+                         catalyst_price_per_t=0, catalyst_wt_pct_of_oil=0,
+                         acid_pretreatment_cost_per_t_ffa=0, glycerol_credit_per_t=0)
+    v = value_lots(_single("C18:1", price_per_t=900.0), costs=costs)
+    kmol = 1000.0 / TRIOLEIN
+    bought_t = (3 * kmol + 0.1 * 3 * kmol) * METHANOL / 1000.0
+    assert v["methanol_cost_per_t_oil"].item() == pytest.approx(500.0 * bought_t, rel=1e-4)
+
+
+def test_a_higher_methanol_ratio_costs_more():
+    lot = _single("C18:1", price_per_t=900.0)
+    low = value_lots(lot, methanol_ratio=6.0)["cost_per_t_fuel"].item()
+    high = value_lots(lot, methanol_ratio=12.0)["cost_per_t_fuel"].item()
+    assert high > low
+
+
+def test_acid_pretreatment_is_charged_per_tonne_of_ffa_converted():
+    # 8.5 wt % FFA (a high-FFA tallow, common practice) at 200 per t FFA: 17 per t of oil
+    costs = ProcessCosts(acid_pretreatment_cost_per_t_ffa=200.0)
+    lot = _single("C16:0", price_per_t=760.0, ffa_wt_pct=8.5, water_wt_pct=0.0)
+    v = value_lots(lot, pretreat="acid", costs=costs)
+    assert v["pretreatment_cost_per_t_oil"].item() == pytest.approx(17.0)
+    free = value_lots(lot, pretreat="acid", costs=ProcessCosts(
+        acid_pretreatment_cost_per_t_ffa=0.0))
+    assert v["cost_per_t_fuel"].item() - free["cost_per_t_fuel"].item() == pytest.approx(
+        17.0 / v["fuel_yield_t_per_t_oil"].item())
+    base = value_lots(lot, pretreat="none", costs=costs)
+    assert base["pretreatment_cost_per_t_oil"].item() == 0.0
+
+
+def test_glycerol_credit_lowers_the_cost_by_its_value_over_the_yield():
+    lot = _single("C18:1", price_per_t=900.0)
+    no_credit = value_lots(lot, costs=ProcessCosts(glycerol_credit_per_t=0.0))
+    credit = value_lots(lot, costs=ProcessCosts(glycerol_credit_per_t=300.0))
+    # one glycerol (92.094 g/mol) per triolein (885.453 g/mol): stoichiometry by hand
+    glycerol_t = GLYCEROL / TRIOLEIN
+    assert no_credit["cost_per_t_fuel"].item() - credit["cost_per_t_fuel"].item() == \
+        pytest.approx(300.0 * glycerol_t / credit["fuel_yield_t_per_t_oil"].item(), rel=1e-4)
+
+
+def test_catalyst_cost_adds_what_the_ffa_neutralises_to_the_dose():
+    costs = ProcessCosts(catalyst_price_per_t=1000.0, catalyst_wt_pct_of_oil=1.0)
+    v = value_lots(_single("C18:1", price_per_t=900.0, ffa_wt_pct=1.0, water_wt_pct=0.0),
+                   costs=costs)
+    koh_t = 10.0 / OLEIC_ACID * KOH / 1000.0  # 1 % FFA neutralised, by hand
+    assert v["catalyst_cost_per_t_oil"].item() == pytest.approx(1000.0 * (0.01 + koh_t))
+
+
+def test_costs_file_keys_override_defaults_and_the_assumptions_say_which(tmp_path):
+    path = tmp_path / "costs.json"
+    path.write_text(json.dumps({"_comment": "ours", "methanol_price_per_t": 520,
+                                "glycerol_credit_per_t": 0}))
+    costs = read_costs(path)
+    assert costs.methanol_price_per_t == 520.0 and costs.glycerol_credit_per_t == 0.0
+    assert costs.catalyst_price_per_t == DEFAULT_COSTS.catalyst_price_per_t
+    rows = assumptions(costs=costs).set_index("assumption")
+    methanol = [r for r in rows.index if r.startswith("methanol_price_per_t")][0]
+    catalyst = [r for r in rows.index if r.startswith("catalyst_price_per_t")][0]
+    assert rows.loc[methanol, "basis"] == "from costs.json"
+    assert rows.loc[catalyst, "basis"].startswith("default; assumption")
+
+
+def test_every_cost_key_is_documented_in_the_readme():
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    for key in COST_KEYS:
+        assert f"`{key}`" in readme
+
+
+@pytest.mark.parametrize("content, message", [
+    ({"methanol_price": 5}, "costs.json: unknown key 'methanol_price'; a costs file takes "),
+    ({"methanol_price_per_t": -1}, "costs.json: key 'methanol_price_per_t': '-1' is not a "
+                                   "number >= 0"),
+    ({"methanol_price_per_t": True}, "costs.json: key 'methanol_price_per_t': 'True' is not"),
+    ({"methanol_price_per_t": "cheap"}, "costs.json: key 'methanol_price_per_t': 'cheap' is not"),
+    ({"methanol_recovered_pct": 120}, "costs.json: key 'methanol_recovered_pct': 120 is above"),
+    ([1, 2], "costs.json: expected one JSON object"),
+])
+def test_bad_costs_files_get_one_line(tmp_path, content, message):
+    path = tmp_path / "costs.json"
+    path.write_text(json.dumps(content))
+    with pytest.raises(InputFileError) as info:
+        read_costs(path)
+    assert str(info.value).startswith(message)
 
 
 def test_a_lot_without_a_price_gets_no_cost_and_says_so():

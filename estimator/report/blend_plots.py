@@ -14,7 +14,7 @@ from collections.abc import Sequence
 import numpy as np
 import pandas as pd
 
-__all__ = ["BLEND_PANELS", "blend_curves", "mix_shares"]
+__all__ = ["BLEND_PANELS", "LIMIT_COLOURS", "blend_curves", "mix_shares"]
 
 #: The panels of :func:`blend_curves`: property, axis label, unit.
 BLEND_PANELS = (
@@ -27,10 +27,13 @@ BLEND_PANELS = (
 )
 _LINE_STYLES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1)), (0, (3, 1, 1, 1, 1, 1)))
 _MARKERS = ("o", "s", "^", "D", "v", "P", "X", "*")
-_SAMPLE_COLOURS = ("#332288", "#CC6677", "#117733", "#882255", "#44AA99", "#999933",
-                   "#AA4499", "#88CCEE")
+#: Lot curves: Paul Tol's colours minus those the specification lines and targets use,
+#: so a lot curve never shares colour (hence colour and line style) with a limit line.
+_SAMPLE_COLOURS = ("#332288", "#CC6677", "#117733", "#DDAA33", "#88CCEE", "#999933",
+                   "#AA4499", "#661100")
 _TARGET_COLOUR = "#000000"
 _SPEC_COLOURS = {"en590": "#882255", "astm-d7467": "#44AA99"}
+LIMIT_COLOURS = (_TARGET_COLOUR, *_SPEC_COLOURS.values(), "#555555")
 _SPEC_NAMES = {"en590": "EN 590", "astm-d7467": "ASTM D7467"}
 _STYLE = {
     "font.size": 10, "axes.titlesize": 11, "axes.titleweight": "bold", "axes.labelsize": 10,
@@ -75,7 +78,8 @@ def blend_curves(
     panels : sequence of (property, label, unit)
         Which properties to draw.
     bands : bool, optional
-        Shade value ± stated error (default: when at most three samples are drawn).
+        Shade value ± stated error around every curve (default: yes; the cautious
+        levels in brackets come from these bands).
     highest : DataFrame, optional
         From :func:`estimator.blend_targets.highest_levels`: the highest level meeting each
         user target is marked on the target line with the sample's marker.
@@ -91,7 +95,7 @@ def blend_curves(
 
     samples = list(dict.fromkeys(wide["sample"]))
     drawn = samples[:MAX_CURVES]
-    bands = len(drawn) <= 3 if bands is None else bands
+    bands = True if bands is None else bands
     ncols = 2
     nrows = int(np.ceil(len(panels) / ncols))
     with matplotlib.rc_context(_STYLE):
@@ -109,7 +113,8 @@ def blend_curves(
                         markevery=max(1, len(x) // 10))
                 if bands:
                     e = part[f"{prop}_error"].to_numpy(dtype=float)
-                    ax.fill_between(x, y - e, y + e, color=colour, alpha=0.13, linewidth=0)
+                    ax.fill_between(x, y - e, y + e, color=colour,
+                                    alpha=0.16 if len(drawn) <= 3 else 0.08, linewidth=0)
             x_max = float(wide["level_pct_v"].max()) or 100.0
             _draw_limits(ax, prop, targets, x_max)
             if highest is not None:
@@ -273,23 +278,16 @@ def mix_shares(result, *, title: str | None = None):
         ax1.set_title("Lots in the mix")
 
         y2 = np.arange(m)[::-1].astype(float)
-        limit = c["limit"].to_numpy(dtype=float)
-        margin = c["margin"].to_numpy(dtype=float)
-        # headroom in multiples of the estimate's stated error: below 1 the verdict is
-        # 'too close to call'; limits fixed by the composition have no error band
-        est = result.estimates
-        from estimator.properties.methods import DEFAULTS
-
-        default_rows = est[est["method"].astype(str)
-                           == est["property"].astype(str).map(DEFAULTS).fillna("")]
-        err_of = dict(zip(default_rows["property"].astype(str), default_rows["error"]))
-        err = np.array([float(err_of.get(str(p), np.nan)) for p in c["property"]])
+        # headroom in multiples of the estimate's stated error (at the mix, by the method
+        # or lab model that decided): below 1 the verdict is 'too close to call'; limits
+        # fixed by the composition have no error band
+        err = c["error"].to_numpy(dtype=float)
+        headroom = c["headroom"].to_numpy(dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):
-            rel = np.where(np.isfinite(err) & (err > 0), margin / err,
-                           np.where(margin > 0, np.inf, np.where(margin < 0, -np.inf, 0.0)))
+            rel = np.where(np.isfinite(err) & (err > 0), headroom / err,
+                           np.where(headroom > 0, np.inf, np.where(headroom < 0, -np.inf, 0.0)))
         capped = np.abs(rel) > HEADROOM_CAP
         rel = np.clip(rel, -HEADROOM_CAP, HEADROOM_CAP)
-        del limit
         binding = c["binding"].to_numpy(dtype=bool)
         missed = ~c["meets"].to_numpy(dtype=bool)
         plain = ~binding & ~missed
@@ -306,6 +304,9 @@ def mix_shares(result, *, title: str | None = None):
             tag += f"  (> {HEADROOM_CAP:g})" if cap and not b else ""
             ax2.text(max(ri, 0) + 0.1, yi, tag, va="center", ha="left", fontsize=8.5)
         ax2.axvline(1.0, color="#555555", linewidth=0.9, linestyle=":")
+        required = float(getattr(result, "margin_bands", 0.0))
+        if required > 0 and required != 1.0:
+            ax2.axvline(required, color="#117733", linewidth=1.2, linestyle="--")
         ax2.set_yticks(y2, c["constraint"].astype(str))
         ax2.set_ylim(-0.6, m - 0.4)
         lo = float(np.nanmin(np.r_[rel, 0.0]))
@@ -319,7 +320,10 @@ def mix_shares(result, *, title: str | None = None):
                    Line2D([], [], color="#555555", linewidth=0.9, linestyle=":",
                           label="1 stated error (closer: too close to call)"),
                    Patch(facecolor="#DDCC77", hatch="///", edgecolor="#222222",
-                         label="binding (at the limit)")]
+                         label="binding (at the limit or the margin)")]
+        if required > 0 and required != 1.0:
+            handles.append(Line2D([], [], color="#117733", linewidth=1.2, linestyle="--",
+                                  label=f"required margin ({required:g} stated errors)"))
         if missed.any():
             handles.append(Patch(facecolor="#CC6677", hatch="xx", edgecolor="#222222",
                                  label="missed"))

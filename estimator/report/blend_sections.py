@@ -149,8 +149,17 @@ def mix_sections(result, *, figure=None) -> list[Section]:
 
     sections = []
     if result.feasible:
-        head = (f"Least-cost mix: feedstock cost {result.cost_per_t_fuel:,.1f} per t of fuel "
-                f"({result.solver}). Shares are of the fuel's mass.")
+        head = (f"Least-cost mix: {result.cost_per_t_fuel:,.1f} per t of fuel (oil, methanol, "
+                f"catalyst, pretreatment, less the glycerol credit; {result.solver}). Shares "
+                "are of the fuel's mass.")
+    margin = float(getattr(result, "margin_bands", 0.0))
+    head += (f" Every limit was moved {margin:g} stated error(s) inside (margin), so that the "
+             "mix's own verdict is not 'too close to call'." if margin > 0 else
+             " No margin was asked for: the mix may sit on its limits.")
+    from_model = getattr(result, "model_properties", None) or {}
+    if from_model:
+        head += " From the lab's model, replacing the published estimates: " + "; ".join(
+            f"{p} ({how})" for p, how in from_model.items()) + "."
     else:
         head = f"{result.message}."
     sections.append(Section("Mix summary", paragraph(head + " " + CAUTION_SHORT)
@@ -159,13 +168,14 @@ def mix_sections(result, *, figure=None) -> list[Section]:
         sections.append(Section("Mix figure", figure_html(
             figure, alt="Shares of each lot and headroom to each limit",
             caption="Left: share of the fuel's mass per lot. Right: headroom to each limit "
-                    "in % of the limit; binding limits hatched, missed limits cross-hatched.")))
+                    "in stated errors; binding limits hatched, missed limits cross-hatched.")))
     cols = [c for c in ("lot", "share_mass_pct", "oil_share_mass_pct", "cost_per_t_fuel",
                         "fuel_t", "oil_t", "available_t", "valuation_note")
             if c in result.lots.columns]
     sections.append(Section("Lots and shares", table_html(result.lots[cols])))
-    c = result.constraints[["constraint", "value", "margin", "binding", "meets",
-                            "linear_form"]]
+    c = result.constraints[[k for k in (
+        "constraint", "limit", "limit_with_margin", "value", "error", "headroom",
+        "headroom_bands", "binding", "meets", "linear_form") if k in result.constraints]]
     sections.append(Section("Limits on the mixed fuel", table_html(c)))
     if result.verdicts is not None:
         v = result.verdicts[["spec", "property", "estimate", "error", "limit", "verdict"]]
@@ -176,7 +186,8 @@ def mix_sections(result, *, figure=None) -> list[Section]:
     comp = result.composition[result.composition > 0]
     sections.append(Section("Profile of the mixed fuel", table_html(pd.DataFrame({
         "species": comp.index, "wt %": np.round(comp.to_numpy(), 3)}))))
-    sections.append(Section("Valuation assumptions", table_html(assumptions())))
+    sections.append(Section("Valuation assumptions", table_html(assumptions(
+        costs=getattr(result, "costs", None)))))
     return sections
 
 

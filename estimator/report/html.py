@@ -252,10 +252,19 @@ def summary_section(comparison) -> Section:
         "No climate class chosen: CFPP is estimated but not judged (choose a grade A-F or "
         "an arctic class 0-4).",
         f"FFA handling: {ffa}; methanol : oil molar ratio {comparison.methanol_ratio:g} : 1.",
+        "Processing costs: " + ("the stated defaults (assumptions; see 'Assumptions')"
+                                if getattr(comparison, "costs", None) is None
+                                or comparison.costs.source == "defaults" else
+                                f"from {comparison.costs.source} (see 'Assumptions')") + ".",
         "Outcome: " + ", ".join(f"{int(counts.get(k, 0))} {k}" for k in
                                 ("meets", "too close to call", "fails") if counts.get(k, 0))
         + " (worst verdict over every limit checked).",
     ]
+    from_model = getattr(comparison, "model_properties", None) or {}
+    if from_model:
+        items.append("From the lab's model, replacing the published estimates in verdicts "
+                     "and ranking: " + "; ".join(f"{p} ({how})" for p, how in
+                                                 from_model.items()) + ".")
     best = ranked.iloc[0]
     if best["overall"] == "meets":
         items.append(f"First choice: {best['sample']} (meets every specification checked, "
@@ -304,21 +313,32 @@ def ranking_section(comparison) -> Section:
         name = _spec_label(spec)
         out[name] = r[f"verdict_{spec}"]
         verdict_cols.append(name)
+    if "decision" in r.columns:
+        out["decision"] = r["decision"]
+        out["fixable (treatment, assumed cost)"] = r["fixable_failures"]
+        out["no treatment fixes"] = r["unfixable_failures"]
     out["fuel yield [t/t oil]"] = r["fuel_yield_t_per_t_oil"]
     out["price [per t oil]"] = r["price_per_t"]
-    out["feedstock cost [per t fuel]"] = r["cost_per_t_fuel"]
+    if "feedstock_cost_per_t_fuel" in r.columns:
+        out["feedstock cost [per t fuel]"] = r["feedstock_cost_per_t_fuel"]
+    out["cost [per t fuel]"] = r["cost_per_t_fuel"]
     if "available_t" in r.columns:
         out["available [t]"] = r["available_t"]
     body = paragraph(
         "Lots whose fuel meets every specification checked come first, then those too "
-        "close to call, then those that fail; within each group the cheapest fuel first. "
-        "Every ± is one standard uncertainty. A verdict is 'too close to call' when the "
-        "probability that the fuel meets the limit lies between 0.1 and 0.9, and 'outside "
-        "method range' when the estimate lies outside the range its method was fitted on."
+        "close to call, then those whose only failures a treatment fixes (oxidation "
+        "stability, by an antioxidant dose), then those with a failure no treatment fixes. "
+        "Failing lots closer to their limits, in stated errors, come first; then the "
+        "cheaper fuel (cost: oil, methanol, catalyst, pretreatment and any antioxidant "
+        "dose, less the glycerol credit). A verdict is 'too close to call' when the limit "
+        "lies between 0.1 and 0.9 in probability of meeting it, and 'outside method range' "
+        "when the estimate lies outside the range its method was fitted on. Every ± is one "
+        "standard uncertainty."
     )
     body += table_html(out, verdict_columns=verdict_cols, formats={
         "fuel yield [t/t oil]": ".4f", "price [per t oil]": ",.0f",
-        "feedstock cost [per t fuel]": ",.0f", "available [t]": ",.0f"})
+        "feedstock cost [per t fuel]": ",.0f", "cost [per t fuel]": ",.0f",
+        "available [t]": ",.0f"})
     props = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
     for prop in (*KEY_PROPERTIES, "ester_content_wt_pct"):  # the last only when measured
         if prop in r.columns:

@@ -132,8 +132,11 @@ def lab_section(result, long: pd.DataFrame, fit_report_href: str) -> Section:
     body += (
         f'<p>Scores, parity and residual plots: <a href="{html.escape(fit_report_href)}">the '
         "fit report</a>. The offered lots estimated with the lab&#x27;s models (a lot outside "
-        "the range of the lab&#x27;s samples is an extrapolation; trust it less). The "
-        "specification verdicts above use the published methods, not these models:</p>"
+        "the range of the lab&#x27;s samples is an extrapolation; trust it less). "
+        + ("These models replace the published estimates in the verdicts, the ranking, the "
+           "blend and the mix above:</p>" if getattr(result, "model_properties", None) else
+           "The specification verdicts above use the published methods, not these "
+           "models:</p>")
     )
     body += table_html(lots, digits=4)
     return Section("Refit on the lab's own samples", body, id="refit")

@@ -69,11 +69,32 @@ def test_blend_curves_mark_the_highest_level_meeting_the_target():
     assert any(np.isclose(ln.get_xdata()[0], level) for ln in marks)
 
 
-def test_blend_curves_shade_the_error_band_for_few_samples_only():
-    wide, targets, _, diesel = _curves()
-    few = blend_curves(wide, targets=targets, diesel_name=diesel.name)
-    many = blend_curves(wide, targets=targets, diesel_name=diesel.name, bands=False)
-    assert len(few.axes[0].collections) > len(many.axes[0].collections)
+def test_blend_curves_shade_the_error_band_around_every_curve_by_default():
+    oils = ("rapeseed", "palm", "soybean", "sunflower", "beef-tallow")
+    wide, targets, _, diesel = _curves(oils=oils)
+    banded = blend_curves(wide, targets=targets, diesel_name=diesel.name)
+    plain = blend_curves(wide, targets=targets, diesel_name=diesel.name, bands=False)
+    assert len(banded.axes[0].collections) - len(plain.axes[0].collections) == len(oils)
+    labels = [t.get_text() for t in banded.legends[0].get_texts()]
+    assert "± stated error" in labels
+
+
+def test_lot_curves_never_share_colour_and_line_style_with_a_limit_line():
+    from matplotlib.collections import LineCollection
+    from matplotlib.colors import to_hex
+
+    oils = ("rapeseed", "palm", "soybean", "sunflower", "beef-tallow", "used-cooking-oil")
+    wide, targets, highest, diesel = _curves(oils=oils, climate_class="F")
+    fig = blend_curves(wide, targets=targets, diesel_name=diesel.name, highest=highest)
+    for ax in fig.axes:
+        if not ax.get_visible():
+            continue
+        lots = {to_hex(ln.get_color()) for ln in ax.lines if len(ln.get_xdata()) > 2}
+        limits = {to_hex(col.get_color()[0]) for col in ax.collections
+                  if isinstance(col, LineCollection)}  # spec segments (hlines)
+        limits |= {to_hex(ln.get_color()) for ln in ax.lines
+                   if len(ln.get_xdata()) == 2}  # full-width limit lines (axhline)
+        assert lots and not lots & limits
 
 
 def test_mix_shares_shows_every_lot_and_every_limit():

@@ -42,6 +42,7 @@ def test_report_command_writes_one_report_with_every_part(tmp_path):
     data["lab"]["properties"] = ["cetane_number"]  # one property keeps the test quick
     for part, key in (("lots", "file"), ("blend", "diesel"), ("lab", "file")):
         data[part][key] = str(DEMO / data[part][key])
+    data["costs"] = str(DEMO / data["costs"])
     scenario = tmp_path / "scenario.json"
     scenario.write_text(json.dumps(data))
     out = tmp_path / "out"
@@ -61,3 +62,38 @@ def test_report_command_writes_one_report_with_every_part(tmp_path):
     assert "lab_model_fit_report/report.html" in parser.links
     assert parser.images >= 6
     assert "Estimates, not certification" in result.output
+
+
+def test_report_takes_a_lab_model_and_says_which_properties_came_from_it(tmp_path):
+    import numpy as np
+    import pandas as pd
+
+    from estimator.profiles.profile import Profile
+    from estimator.refit import file_provenance, fit_property, save_models
+
+    # an invented lab whose Rancimat times are all about 2 h (synthetic, for the test)
+    base = Profile.from_oils(["rapeseed", "soybean", "palm", "beef-tallow", "sunflower"])
+    rng = np.random.default_rng(1)
+    w = base.wt_pct[rng.integers(0, len(base), 20)] * np.exp(rng.normal(0, 0.15, (20, 30)))
+    w = 100.0 * w / w.sum(axis=1, keepdims=True)
+    ids = [f"L{i}" for i in range(20)]
+    lab = Profile.from_frame(
+        pd.DataFrame(w, index=ids, columns=base.composition.columns),
+        metadata=pd.DataFrame({"oxidation_stability_110C_h": 2.0 + rng.normal(0, 0.1, 20)},
+                              index=ids), source="lab.csv")
+    training = tmp_path / "lab.csv"
+    training.write_text("invented\n", encoding="utf-8")
+    model = save_models([fit_property(lab, "oxidation_stability_110C_h", kinds=("ridge",)).model],
+                        tmp_path / "os_model.json", file_provenance(training, 20))
+    scenario = tmp_path / "scenario.json"
+    scenario.write_text(json.dumps({"lots": {"file": str(DEMO / "lots.csv"),
+                                             "basis": "fatty-acid"}}))
+    out = tmp_path / "out"
+    result = CliRunner().invoke(cli, ["report", str(scenario), "--model", str(model),
+                                      "-o", str(out)])
+    assert result.exit_code == 0, result.output
+    assert "oxidation_stability_110C_h (lab model ridge" in result.stdout
+    html = (out / "report.html").read_text(encoding="utf-8")
+    assert "From the lab&#x27;s model" in html or "From the lab's model" in html
+    ranked = pd.read_csv(out / "comparison.csv")
+    assert (ranked["oxidation_stability_110C_h"] < 4).all()
