@@ -12,6 +12,7 @@ from pathlib import Path
 import pandas as pd
 
 from estimator.report.html import Section, bullet_list, figure_html, paragraph, table_html
+from estimator.report.labels import candidate_name, column_label, for_readers, pretty_unit
 
 __all__ = [
     "REPORT_SUFFIX",
@@ -43,7 +44,8 @@ def report_folder(model_path: str | Path) -> Path:
 
 def summary_section(fits: Sequence, source: str = "") -> Section:
     """One line per property: the choice and whether it beats the published methods."""
-    items = [f"{f.property}: {f.statement}" for f in fits]
+    items = [f"{column_label(f.property, unit=False)}: {for_readers(f.statement)}"
+             for f in fits]
     intro = paragraph(
         f"Lab samples from {source or 'the lab file'}. Every score below is on held-out "
         "samples: each candidate was fitted without the samples it is scored on "
@@ -55,9 +57,9 @@ def summary_section(fits: Sequence, source: str = "") -> Section:
 
 def _score_frame(fit) -> pd.DataFrame:
     table = fit.score_table()
-    unit = "" if fit.unit == "1" else f" [{fit.unit}]"
+    unit = "" if not pretty_unit(fit.unit) else f" [{pretty_unit(fit.unit)}]"
     frame = pd.DataFrame({
-        "candidate": table["candidate"],
+        "candidate": table["candidate"].map(candidate_name),
         "what it is": table["kind"].map(_KIND_TEXT),
         "complexity rank": table["complexity"],
         f"CV RMSE{unit}": table["cv_rmse"],
@@ -65,7 +67,7 @@ def _score_frame(fit) -> pd.DataFrame:
         f"CV bias{unit}": table["cv_bias"],
         "CV R²": table["cv_r2"],
         "chosen": table["chosen"],
-        "note": table["note"],
+        "note": table["note"].map(for_readers),
     })
     return frame if (frame["note"] != "").any() else frame.drop(columns="note")
 
@@ -76,16 +78,17 @@ def property_section(fit, figures: Mapping | None = None) -> Section:
 
     figures = fit_figures(fit) if figures is None else figures
     dom = fit.model.domain
-    body = paragraph(fit.statement)
+    body = paragraph(for_readers(fit.statement))
     body += paragraph(
         f"{len(fit.measured)} measured samples, {fit.scheme.name} (seed {fit.scheme.seed}). "
         "Candidates are listed best CV RMSE first; candidates within the tie tolerance of "
         "the best go to the lowest complexity rank (published 0, recalibrated 1, PLS 2-3, "
         "ridge 4-5, Gaussian process 6)."
     )
-    body += table_html(_score_frame(fit), caption=f"{fit.property}: cross-validated scores")
+    body += table_html(_score_frame(fit), caption=f"{column_label(fit.property, unit=False)}: "
+                       "scores on held-out samples")
     if fit.skipped:
-        body += paragraph("Not evaluated: " + "; ".join(fit.skipped))
+        body += paragraph("Not evaluated: " + "; ".join(for_readers(x) for x in fit.skipped))
     label = property_label(fit.property)
     body += figure_html(
         figures["parity"], alt=f"parity plot of {label}",
@@ -99,22 +102,23 @@ def property_section(fit, figures: Mapping | None = None) -> Section:
                 "trend line with a clear slope means the model misses that effect.",
     )
     body += paragraph(
-        "Training domain for predict --model: a new sample is flagged out of domain when "
+        "Training domain of the model file: a new sample is flagged out of domain when "
         f"a main ester lies outside the lab's range (widened by 5 %) or it lies more than "
         f"{dom.threshold:.2f} standardized units from its nearest lab sample (the 95th "
         "percentile of the lab samples' leave-one-out nearest distances)."
     )
-    return Section(f"{label} ({fit.property})", body, id=f"fit-{fit.property}")
+    return Section(label[0].upper() + label[1:], body, id=f"fit-{fit.property}",
+                   group="Each property")
 
 
 def usage_section(model_file: str) -> Section:
     """How to use the model file."""
     return Section("Using the model file", paragraph(
-        f"fame-estimator predict NEW_SAMPLES.csv --model {model_file} shows each fitted "
-        "property by its fitted model (method fit:<candidate>) with a 95 % prediction "
-        "interval as its error and an in-domain flag from the lab's training domain. The "
-        "model file is plain JSON with a checksum; it holds no code."
-    ))
+        f"fame-estimator predict NEW_SAMPLES.csv --model {model_file} estimates each "
+        "fitted property with the lab's model, a 95 % prediction interval as its error and "
+        "a flag for samples outside the lab's training range. The model file is plain JSON "
+        "with a checksum; it holds no code."
+    ), group="Using the model file")
 
 
 def fit_sections(fits: Sequence, figures: Mapping | None = None, *, source: str = "",
@@ -132,11 +136,13 @@ def fit_sections(fits: Sequence, figures: Mapping | None = None, *, source: str 
 
 
 def write_fit_report(fits: Sequence, model_path: str | Path, *, table: pd.DataFrame,
-                     groups: Mapping[str, str] | None = None, source: str = "") -> Path:
+                     groups: Mapping[str, str] | None = None, source: str = "",
+                     svg: bool = False) -> Path:
     """Write ``<stem>_fit_report/`` beside the model file: scores, plots and report.html.
 
     ``scores.csv`` (every candidate of every property, with the caution), each
-    ``<property>_parity`` and ``<property>_residuals`` as PNG and SVG, and the
+    ``<property>_parity`` and ``<property>_residuals`` as PNG (drawn once, the same
+    image the report embeds; SVG too with ``svg=True``), and the
     self-contained ``report.html``. ``groups`` (sample id -> e.g. its feedstock) colours
     the plots. Returns the folder.
     """
@@ -155,13 +161,14 @@ def write_fit_report(fits: Sequence, model_path: str | Path, *, table: pd.DataFr
         fit_groups = None if groups is None else [str(groups.get(s, "")) for s in f.samples]
         figs = fit_figures(f, groups=fit_groups)
         for kind, fig in figs.items():
-            save_figure(fig, folder / f"{f.property}_{kind}")
+            save_figure(fig, folder / f"{f.property}_{kind}", svg=svg)
         figures[f.property] = figs
     build_report(
         "Refit on lab samples", fit_sections(fits, figures, source=source,
                                              model_file=model_path.name),
         folder / "report.html",
-        subtitle=f"{source or 'lab file'}: {', '.join(f.property for f in fits)}",
+        subtitle=f"{source or 'lab file'}: "
+                 f"{', '.join(column_label(f.property, unit=False) for f in fits)}",
     )
     return folder
 
