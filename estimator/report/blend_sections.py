@@ -14,7 +14,13 @@ import numpy as np
 import pandas as pd
 
 from estimator.report.html import Section, bullet_list, figure_html, paragraph, table_html
-from estimator.report.labels import column_label, for_readers, plus_minus, spec_name
+from estimator.report.labels import (
+    column_label,
+    for_readers,
+    plus_minus,
+    readable_cells,
+    spec_name,
+)
 
 __all__ = [
     "blend_sections",
@@ -168,8 +174,7 @@ def mix_sections(result, *, figure=None) -> list[Section]:
                                                "value", "margin", "binding", "meets",
                                                "linear_form"}]
     for k in extra:
-        limits[column_label(k)] = c[k].map(for_readers).to_numpy() if c[k].dtype == object \
-            else c[k].to_numpy()
+        limits[column_label(k)] = readable_cells(c[k]).to_numpy()
     sections.append(Section("Limits on the mixed fuel", table_html(limits)))
     if result.verdicts is not None:
         v = result.verdicts
@@ -185,8 +190,7 @@ def mix_sections(result, *, figure=None) -> list[Section]:
     if result.diagnosis is not None:
         d = result.diagnosis.copy()
         for k in d.columns:
-            if d[k].dtype == object:
-                d[k] = d[k].map(lambda x: for_readers(x) if isinstance(x, str) else x)
+            d[k] = readable_cells(d[k])
         d.columns = [column_label(k) for k in d.columns]
         sections.append(Section("Why no mix meets the limits", table_html(d)))
     comp = result.composition[result.composition > 0]

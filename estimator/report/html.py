@@ -279,12 +279,11 @@ _REFERENCE = "Methods, limits and sources"
 
 def _readable_frame(frame: pd.DataFrame) -> pd.DataFrame:
     """Columns as readable labels, text cells in words (for columns others add)."""
-    from estimator.report.labels import column_label, for_readers
+    from estimator.report.labels import column_label, readable_cells
 
     out = frame.copy()
     for col in out.columns:
-        if out[col].dtype == object:
-            out[col] = out[col].map(lambda v: for_readers(v) if isinstance(v, str) else v)
+        out[col] = readable_cells(out[col])
     out.columns = [column_label(c) for c in out.columns]
     return out
 
@@ -296,7 +295,7 @@ _RANKING_KNOWN = {"rank", "sample", "supplier", "feedstock", "overall", "notes",
 def ranking_section(comparison) -> Section:
     """The ranked lots: verdict summaries, yield and cost; then key properties (± error)."""
     from estimator.comparison import KEY_PROPERTIES
-    from estimator.report.labels import column_label, for_readers
+    from estimator.report.labels import column_label, for_readers, readable_cells
 
     r = comparison.ranked
     out = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
@@ -317,9 +316,7 @@ def ranking_section(comparison) -> Section:
     props = set(KEY_PROPERTIES) | {f"{p}_error" for p in KEY_PROPERTIES}
     for col in r.columns:
         if col not in _RANKING_KNOWN and col not in props and not col.startswith("verdict_"):
-            values = r[col]
-            out[column_label(col)] = values.map(for_readers) if values.dtype == object \
-                else values
+            out[column_label(col)] = readable_cells(r[col])
     body = paragraph(
         "Lots whose fuel meets every specification checked come first, then those too "
         "close to call, then those that fail; within each group the cheapest fuel first. "

@@ -23,6 +23,7 @@ import re
 from functools import cache
 
 __all__ = [
+    "readable_cells",
     "candidate_name",
     "column_label",
     "for_readers",
@@ -313,6 +314,11 @@ def for_readers(text: str) -> str:
     text = re.sub(r"\(\s*\)", "", text)
     text = re.sub(r"\s+([;,.])", r"\1", text)
     return re.sub(r"[ \t]{2,}", " ", text).strip().rstrip(";").strip()
+
+
+def readable_cells(values):
+    """A pandas Series with every text cell passed through :func:`for_readers`."""
+    return values.map(lambda v: for_readers(v) if isinstance(v, str) else v)
 
 
 # ------------------------------------------------------------------ numbers
