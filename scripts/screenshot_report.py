@@ -21,7 +21,7 @@ import sys
 import tempfile
 from pathlib import Path
 
-__all__ = ["find_chromium", "screenshot"]
+__all__ = ["find_chromium", "print_pages", "screenshot"]
 
 #: Executables tried in order (Debian's package installs ``chromium``).
 CANDIDATES = ("chromium", "chromium-browser", "google-chrome", "google-chrome-stable")
@@ -40,12 +40,14 @@ def find_chromium() -> str | None:
 
 
 def _summary_only(html_text: str) -> str:
-    """The page with the collapsible details removed: the summary and the cautions."""
-    start = html_text.find("<details")
-    end = html_text.rfind("</details>")
+    """The page up to the end of the summary (the caution opens it): no details, no footer."""
+    start = html_text.find('<p class="more">')
+    if start < 0:
+        start = html_text.find("<details")
+    end = html_text.find("</main>")
     if start < 0 or end < 0:
         return html_text
-    return html_text[:start] + html_text[end + len("</details>"):]
+    return html_text[:start] + html_text[end:]
 
 
 def screenshot(report: str | Path, output: str | Path, *, width: int = 1280,
@@ -67,18 +69,40 @@ def screenshot(report: str | Path, output: str | Path, *, width: int = 1280,
         shot = Path(tmp) / "shot.png"
         profile = Path(tmp) / "profile"
         profile.mkdir()
-        cmd = [
-            chromium, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic",
-            "--no-first-run", "--disable-background-networking",
-            "--disable-component-update", "--disable-sync", "--hide-scrollbars",
-            f"--user-data-dir={profile}", f"--screenshot={shot}",
-            f"--window-size={width},{height or 2400}", page.as_uri(),
-        ]
+        cmd = [chromium, *_flags(profile), "--hide-scrollbars", f"--screenshot={shot}",
+               f"--window-size={width},{height or 2400}", page.as_uri()]
         subprocess.run(cmd, check=True, capture_output=True, timeout=timeout_s)
         if height is None:
             _trim(shot)
         shutil.copyfile(shot, output)
     return output
+
+
+def _flags(profile: Path) -> list[str]:
+    return ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+            "--disable-background-networking", "--disable-component-update", "--disable-sync",
+            f"--user-data-dir={profile}"]
+
+
+def print_pages(report: str | Path, *, chromium: str | None = None,
+                timeout_s: float = 120.0) -> int:
+    """How many A4 pages the report's summary fills when printed (the print stylesheet)."""
+    import re
+
+    chromium = chromium or find_chromium()
+    if chromium is None:
+        raise FileNotFoundError("no Chromium found (install Debian's 'chromium' package)")
+    with tempfile.TemporaryDirectory(prefix="fame-print-") as tmp:
+        page = Path(tmp) / "summary.html"
+        page.write_text(_summary_only(Path(report).read_text(encoding="utf-8")),
+                        encoding="utf-8")
+        pdf = Path(tmp) / "summary.pdf"
+        profile = Path(tmp) / "profile"
+        profile.mkdir()
+        subprocess.run([chromium, *_flags(profile), "--no-pdf-header-footer",
+                        f"--print-to-pdf={pdf}", page.as_uri()],
+                       check=True, capture_output=True, timeout=timeout_s)
+        return len(re.findall(rb"/Type\s*/Page(?!s)", pdf.read_bytes()))
 
 
 def _trim(path: Path) -> None:

@@ -40,13 +40,22 @@ def test_predict_prints_one_row_per_sample_with_units_in_the_headers():
 
 
 def test_predict_descriptors_adds_spelled_out_descriptor_columns():
+    from estimator.cli import _wide_for_terminal
+    from estimator.profiles.profile import Profile
+    from estimator.workflows import predict
+
     result = CliRunner().invoke(cli, ["predict", "--oil", "rapeseed", "--descriptors"],
                                 env={"COLUMNS": "100"})
     assert result.exit_code == 0, result.output
-    text = " ".join(result.output.split())
-    for name in ("long-chain saturated factor", "bis-allylic position equivalents",
-                 "allylic position equivalents", "saponification value"):
-        assert name in text, name
+    assert "long-chain" in result.output and "bis-allylic" in result.output
+    wide = predict(Profile.from_oils(["rapeseed"])).wide
+    shown = list(_wide_for_terminal(wide, descriptors=True).columns)
+    for name in ("long-chain saturated factor [wt %]",
+                 "bis-allylic position equivalents [wt %]",
+                 "allylic position equivalents [wt %]", "saponification value [mg KOH/g]"):
+        assert name in shown, name
+    assert not [c for c in shown if "_" in c]
+    assert "bape_wt_pct" in wide.columns  # files keep the machine names
 
 
 def test_predict_wraps_the_table_to_a_narrow_terminal():

@@ -176,13 +176,16 @@ font-size:.9rem}details[open]>summary{border-bottom:2px solid #ddd;margin-bottom
 padding-left:1.3rem}.lead p{margin:.3rem 0}
 .more{color:#555;font-size:.9rem;margin-top:1.4rem}
 footer{color:#555;font-size:.85rem;margin-top:2rem}
-@page{size:A4;margin:11mm 12mm}
-@media print{body{font-size:8.6pt;line-height:1.3}main{max-width:none;padding:0}
-h1{font-size:13pt}h2{font-size:11pt;margin:.5rem 0 .2rem}.lead h3{font-size:9.5pt;
-margin:.45rem 0 .15rem}table{font-size:7.8pt}th,td{padding:.08rem .3rem}
-.caution{padding:.25rem .6rem;margin:.4rem 0}.lead{break-after:page}
-.more,footer .caution{display:none}details{break-before:auto}
-details>summary{font-size:10pt;padding:.2rem 0}h2,h3{break-after:avoid}}
+@page{size:A4;margin:10mm 11mm}
+@media print{body{font-size:8.5pt;line-height:1.28}main{max-width:none;padding:0}
+h1{font-size:12pt}.subtitle{margin:0}h2{font-size:10.5pt;margin:.3rem 0 .15rem}
+.lead h3{font-size:9pt;margin:.35rem 0 .1rem}.lead p{margin:.1rem 0}.lead ul{margin:.1rem 0}
+table{font-size:7.4pt}th,td{padding:.02rem .25rem;line-height:1.2}.scroll{margin:.2rem 0;
+overflow:visible}.caution{padding:.2rem .5rem;margin:.3rem 0;font-size:7.5pt}
+.lead{break-after:page}.more,footer .caution{display:none}
+details>summary{font-size:10pt;padding:.2rem 0}h2,h3{break-after:avoid}
+td.v-meets,td.v-too-close-to-call,td.v-fails{print-color-adjust:exact;
+-webkit-print-color-adjust:exact}}
 """
 
 

@@ -113,6 +113,7 @@ def lab_changes(fits: Sequence, long: pd.DataFrame, comparison) -> pd.DataFrame:
         if best_pub is not None:
             err += f" (best published method as is: {format_value(best_pub['cv_rmse'], 2)}{u})"
         crossed, moved = [], []
+        places = _decimals(float(chosen["cv_rmse"]))
         here = fitted[fitted["property"] == f.property]
         limits = lim[lim["property"] == f.property]
         for lot, new in zip(here["sample"].astype(str), here["value"].to_numpy(dtype=float)):
@@ -121,22 +122,30 @@ def lab_changes(fits: Sequence, long: pd.DataFrame, comparison) -> pd.DataFrame:
             old = float(ranked.loc[lot, f.property])
             if not (np.isfinite(old) and np.isfinite(new)):
                 continue
-            moved.append(abs(new - old))
+            moved.append((abs(new - old), lot))
             for spec, bound, value in zip(limits["spec"], limits["bound"], limits["limit"]):
                 ok_old = old >= value if bound == "min" else old <= value
                 ok_new = new >= value if bound == "min" else new <= value
                 if ok_old != ok_new:
-                    crossed.append(f"{lot} {format_value(old, 3)} → {format_value(new, 3)}"
+                    crossed.append(f"{lot} {old:.{places}f} → {new:.{places}f}"
                                    f" ({spec_name(spec)} {bound} {float(value):g})")
                     break
+        biggest = max(moved) if moved else None
         rows.append({
             "property": column_label(f.property, unit=False),
             "lab's model": candidate_name(str(chosen["candidate"])),
             "held-out error (RMSE)": err,
-            "largest change on a lot": (f"{format_value(max(moved), 2)}{u}" if moved else "–"),
+            "largest change on a lot": (f"{biggest[0]:.{places}f}{u} ({biggest[1]})"
+                                        if biggest else "–"),
             "crosses a limit": "; ".join(crossed) if crossed else "none",
         })
     return pd.DataFrame(rows)
+
+
+def _decimals(error: float) -> int:
+    """Decimals a number shows beside an error of this size (one ± formatter's rule)."""
+    text = plus_minus(0.0, error)
+    return len(text.split(" ± ")[-1].partition(".")[2]) if np.isfinite(error) else 1
 
 
 def _mix_html(mix) -> str:
@@ -165,10 +174,11 @@ def _blend_html(blend) -> str:
     highest = blend.get("highest")
     if highest is None or not len(highest):
         return paragraph("No blend target was set.")
-    matrix = levels_matrix(highest)
+    matrix = levels_matrix(highest).rename(columns={"sample": "lot"})
     return paragraph(
-        f"Into {blend['diesel'].name}: % FAME by volume meeting each target; in brackets, "
-        "with the estimate's error taken against the blend (the safe level)."
+        f"Into {blend['diesel'].name}: the highest % FAME by volume meeting each target; "
+        "in brackets, the level with the estimate's error taken against the blend (the "
+        "safe level). A specification's level is capped at the FAME content it allows."
     ) + table_html(matrix)
 
 

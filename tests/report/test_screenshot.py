@@ -42,6 +42,8 @@ def test_summary_renders_at_1280_px_with_nothing_cut_at_the_right_edge(tmp_path)
         right = [rgb.getpixel((x, y)) for x in range(width - 12, width)
                  for y in range(0, height, 7)]
         assert all(p == (255, 255, 255) for p in right)
+    # the print stylesheet fits the summary on one A4 page
+    assert shot.print_pages(written["report"]) == 1
 
 
 def test_script_says_so_in_one_line_when_chromium_is_absent(monkeypatch, capsys, tmp_path):
