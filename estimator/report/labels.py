@@ -293,7 +293,7 @@ def for_readers(text: str) -> str:
     Examples
     --------
     >>> for_readers("cfpp_C: outside ramos2009 domain (LCSF > 7 wt %)")
-    'CFPP: outside Ramos et al. 2009 domain (LCSF > 7 wt %)'
+    'CFPP: outside the fitted domain of Ramos et al. 2009 (LCSF > 7 wt %)'
     >>> for_readers("EN 14214:2012; EN 116; standards.md 1.2: grade ladder [S1][S2]")
     'EN 14214:2012; EN 116; grade ladder'
     """
@@ -311,6 +311,8 @@ def for_readers(text: str) -> str:
 
     text = _word_pattern().sub(word, text)
     text = re.sub(r"\boutside (?!the )(.+?) domain\b", r"outside the fitted domain of \1", text)
+    text = re.sub(r"\s*\(\d+(?:\.\d+)+\)", "", text)  # section numbers of the notes
+    text = re.sub(r"\(\s*[,;]\s*", "(", text)
     text = re.sub(r"\(\s*\)", "", text)
     text = re.sub(r"\s+([;,.])", r"\1", text)
     return re.sub(r"[ \t]{2,}", " ", text).strip().rstrip(";").strip()
