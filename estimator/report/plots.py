@@ -328,7 +328,7 @@ def _place_labels(ax, xs: np.ndarray, ys: np.ndarray, labels: Sequence[str]) -> 
         from matplotlib.backends.backend_agg import FigureCanvasAgg
 
         FigureCanvasAgg(fig)
-    fig.canvas.draw()  # fixes the layout and the transforms
+    fig.draw_without_rendering()  # fixes the layout and the transforms, paints nothing
     renderer = fig.canvas.get_renderer()
     placed: list = []
     axes_box = ax.get_window_extent(renderer)
@@ -493,10 +493,32 @@ def figure_png(fig, *, dpi: int = PNG_DPI) -> bytes:
     """
     cache = fig.__dict__.setdefault("_fame_png", {})
     if dpi not in cache:
-        buffer = io.BytesIO()
-        fig.savefig(buffer, format="png", dpi=dpi)
-        cache[dpi] = buffer.getvalue()
+        cache[dpi] = _render_png(fig, dpi)
     return cache[dpi]
+
+
+def _render_png(fig, dpi: int) -> bytes:
+    """One Agg draw at ``dpi`` (layout included), encoded by Pillow.
+
+    ``savefig`` would draw twice (a layout pass, then the picture); one draw gives
+    the same pixels.
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from PIL import Image
+
+    canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
+    original = fig.dpi
+    try:
+        fig.set_dpi(dpi)
+        canvas.draw()
+        width, height = canvas.get_width_height(physical=True)
+        image = Image.frombuffer("RGBA", (width, height), canvas.buffer_rgba(), "raw",
+                                 "RGBA", 0, 1)
+        buffer = io.BytesIO()
+        image.save(buffer, format="png", dpi=(dpi, dpi), compress_level=3)
+    finally:
+        fig.set_dpi(original)
+    return buffer.getvalue()
 
 
 def save_figure(fig, stem: str | Path, *, dpi: int = PNG_DPI, svg: bool = False) -> list[Path]:
