@@ -215,7 +215,7 @@ def decision_summary(comparison, *, mix=None, blend=None, fits: Sequence = (),
     outcome = ", ".join(f"{int(counts[k])} {k}" for k in ("meets", "too close to call",
                                                            "fails", "not estimated")
                         if counts.get(k, 0))
-    body = f"<h3>Lots, best first</h3>{paragraph(f'{len(r)} lots against {specs}{cls}: ' + outcome + '. Lots that meet every limit come first, then those too close to call, then those that fail; cheapest fuel first within each group.')}"  # noqa: E501
+    body = f"<h3>Lots, best first</h3>{paragraph(f'{len(r)} lots against {specs}{cls}: ' + outcome + '. Lots that meet every limit come first, then those too close to call (a limit lies inside the estimate ± its error), then those that fail; cheapest fuel first within each group.')}"  # noqa: E501
     body += table_html(lots_table(comparison), verdict_columns=["verdict"],
                        formats={"feedstock cost [per t fuel]": ",.0f"})
     if mix is not None:
