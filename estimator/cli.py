@@ -20,6 +20,7 @@ from estimator.cliutil import (
     emit,
     input_options,
     load_inputs,
+    peak_options,
 )
 
 
@@ -57,6 +58,7 @@ def _temperatures(ctx, param, value: str | None) -> tuple[float, ...]:
 @click.option("--oil", "oils", multiple=True, metavar="NAME",
               help="A built-in typical profile (repeatable); see 'fame-estimator oils'.")
 @input_options
+@peak_options
 @click.option("--methods", "methods", type=click.Choice(["default", "all"]), default="default",
               show_default=True,
               help="'all' gives every published method per property as a long table.")
@@ -69,8 +71,8 @@ def _temperatures(ctx, param, value: str | None) -> tuple[float, ...]:
               help="Also show the composition descriptors on the terminal (files always "
               "hold them).")
 @click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json).")
-def predict(inputs, oils, basis, sum_tolerance, methods, temperatures, models,
-            show_descriptors, output) -> None:
+def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
+            methods, temperatures, models, show_descriptors, output) -> None:
     """Fuel-property estimates and composition descriptors for each sample.
 
     Each estimate comes from a published correlation (see 'fame-estimator methods')
@@ -84,10 +86,12 @@ def predict(inputs, oils, basis, sum_tolerance, methods, temperatures, models,
       fame-estimator predict lots.csv -o estimates.xlsx
       fame-estimator predict --oil palm --methods all --temperatures 0,20,40,60
       fame-estimator predict gc_report.csv --basis oil --sum-tolerance 3
+      fame-estimator predict peaks.csv --reference mix.csv
     """
     from estimator.workflows import predict as run_predict
 
-    profile = load_inputs(inputs, oils, basis, sum_tolerance)
+    profile = load_inputs(inputs, oils, basis, sum_tolerance, reference, sample_sheet,
+                          internal_standard)
     result = run_predict(profile, methods=methods, temperatures_C=temperatures, models=models)
     if methods == "all":
         if output:
@@ -264,9 +268,10 @@ def _register() -> None:
     from estimator.cli_blend import blend, mix
     from estimator.cli_compare import check, compare
     from estimator.cli_fit import fit
+    from estimator.cli_peaks import peaks
     from estimator.cli_report import report
 
-    for command in (check, compare, blend, mix, fit, report):
+    for command in (check, compare, blend, mix, fit, report, peaks):
         cli.add_command(command)
 
 

@@ -12,7 +12,14 @@ from pathlib import Path
 
 import click
 
-from estimator.cliutil import CONTEXT, ReportingCommand, emit, input_options, load_inputs
+from estimator.cliutil import (
+    CONTEXT,
+    ReportingCommand,
+    emit,
+    input_options,
+    load_inputs,
+    peak_options,
+)
 
 __all__ = ["STRICT_EXIT_CODE", "check", "compare"]
 
@@ -36,6 +43,7 @@ def _spec_options(func):
 
 
 def _inputs(func):
+    func = peak_options(func)
     func = input_options(func)
     func = click.option(
         "--oil", "oils", multiple=True, metavar="NAME",
@@ -54,6 +62,10 @@ def _footer(climate_class: str | None, spec_names, verdicts=None) -> str:
         if os_fail.any():
             lines.append("Oxidation stability is the esters' own, without antioxidant; "
                          "producers commonly dose one to reach the limit (common practice).")
+        if (verdicts["property"] == "ester_content_wt_pct").any():
+            lines.append("Ester content: measured by EN 14103 on the peak tables; its band is "
+                         "the method's repeatability, about 1 % (m/m) (recalled, not checked "
+                         "against the standard's text).")
     if climate_class is None and any(s in ("en14214", "en590") for s in spec_names):
         lines.append("CFPP not judged: give --climate-class (A-F, or arctic 0-4) to check it.")
     lines.append(CAUTION_SHORT)
@@ -81,7 +93,8 @@ def _with_caution(frame, output: str | None):
               help=f"Exit with status {STRICT_EXIT_CODE} when any verdict is 'fails'.")
 @click.option("-o", "--output", metavar="FILE",
               help="Write the verdict table (.csv, .xlsx or .json).")
-def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict, output) -> None:
+def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
+          spec_names, climate_class, strict, output) -> None:
     """Check each sample's estimated fuel against specification limits.
 
     Every estimate is compared with every limit: 'meets', 'fails', or 'too close to
@@ -95,6 +108,7 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
       fame-estimator check --oil rapeseed --oil soybean
       fame-estimator check lots.csv --spec en14214 --climate-class C
       fame-estimator check lots.csv --spec astm-d6751 --strict -o verdicts.xlsx
+      fame-estimator check peaks.csv --reference mix.csv --samples masses.csv
     """
     import pandas as pd
 
@@ -105,7 +119,8 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
     names = spec_names or DEFAULT_SPECS
     climate_class = normalise_climate_class(climate_class)
     limits(names, climate_class)  # bad names fail before the inputs are read
-    profile = load_inputs(inputs, oils, basis, sum_tolerance)
+    profile = load_inputs(inputs, oils, basis, sum_tolerance, reference, sample_sheet,
+                          internal_standard)
     table = check_profile(profile, names, climate_class)
     failed = int((table["verdict"] == "fails").sum())
     footer = _footer(climate_class, names, table)
@@ -151,8 +166,8 @@ def check(inputs, oils, basis, sum_tolerance, spec_names, climate_class, strict,
 @click.option("-o", "--output", "outdir", metavar="DIR", type=click.Path(file_okay=False),
               help="Write comparison.csv, comparison.xlsx, plots/ (PNG and SVG) and "
                    "report.html into DIR.")
-def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretreat,
-            methanol_ratio, outdir) -> None:
+def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
+            spec_names, climate_class, pretreat, methanol_ratio, outdir) -> None:
     """Compare offered lots: spec verdicts, fuel yield and cost per tonne of fuel, ranked.
 
     Reads each lot's profile and, when present, its price_per_t, ffa_wt_pct,
@@ -178,7 +193,8 @@ def compare(inputs, oils, basis, sum_tolerance, spec_names, climate_class, pretr
 
         raise UsageError(f"-o {outdir}: compare writes a folder of files; give a folder name "
                          "(e.g. -o out/lots), not a file")
-    profile = load_inputs(inputs, oils, basis, sum_tolerance)
+    profile = load_inputs(inputs, oils, basis, sum_tolerance, reference, sample_sheet,
+                          internal_standard)
     result = compare_lots(profile, spec_names=names, climate_class=climate_class,
                           pretreat=pretreat, methanol_ratio=methanol_ratio)
     footer = _footer(climate_class, names, result.verdicts)

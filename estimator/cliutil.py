@@ -101,17 +101,54 @@ def input_options(func):
     return func
 
 
+def peak_options(func):
+    """Add --reference, --samples and --internal-standard: read INPUTs as GC peak tables."""
+    func = click.option(
+        "--internal-standard", type=click.Choice(["C19:0", "C17:0"]), default="C19:0",
+        show_default=True, help="With --reference: C19:0 (EN 14103:2011) or C17:0 (2003).",
+    )(func)
+    func = click.option(
+        "--samples", "sample_sheet", metavar="SHEET", type=click.Path(dir_okay=False),
+        help="With --reference: sample, sample_mass_mg, internal_standard_mg (ester content).",
+    )(func)
+    func = click.option(
+        "--reference", metavar="REF", type=click.Path(dir_okay=False),
+        help="Read the INPUT files as GC peak tables, identified against this reference "
+             "run (see 'fame-estimator peaks').",
+    )(func)
+    return func
+
+
 def load_inputs(
-    inputs: tuple[str, ...], oils: tuple[str, ...], basis: str, sum_tolerance: float
+    inputs: tuple[str, ...], oils: tuple[str, ...], basis: str, sum_tolerance: float,
+    reference: str | None = None, sample_sheet: str | None = None,
+    internal_standard: str = "C19:0",
 ):
-    """Read every INPUT file and --oil name into one Profile."""
+    """Read every INPUT file and --oil name into one Profile.
+
+    With ``reference`` the INPUT files are GC peak tables, read by
+    :func:`estimator.profiles.peaks.read_peaks` (FAME basis; ester content from
+    ``sample_sheet`` rides along in the profile's metadata).
+    """
     from estimator.errors import UsageError
     from estimator.profiles.io import read_profile
     from estimator.profiles.profile import Profile
 
     if not inputs and not oils:
         raise UsageError("give at least one INPUT file or --oil NAME (see --help)")
-    parts = [read_profile(p, basis=basis, sum_tolerance=sum_tolerance) for p in inputs]
+    if reference is None:
+        if sample_sheet is not None:
+            raise UsageError("--samples needs --reference (it belongs to GC peak tables)")
+        parts = [read_profile(p, basis=basis, sum_tolerance=sum_tolerance) for p in inputs]
+    elif not inputs:
+        raise UsageError("--reference needs at least one INPUT peak table")
+    elif basis != "fame":
+        raise UsageError("--basis does not apply to peak tables (they give FAME mass %)")
+    else:
+        from estimator.profiles.peaks import read_peaks
+
+        parts = [read_peaks(inputs, reference, samples=sample_sheet,
+                            internal_standard=internal_standard).profile]
     if oils:
         parts.append(Profile.from_oils(oils))
     return Profile.concat(parts)

@@ -93,6 +93,15 @@ def methods_used(estimates: pd.DataFrame) -> pd.DataFrame:
                 "note": "read from the profile, no correlation",
             })
             continue
+        if prop in specs.MEASURED_PROPERTIES:
+            rows.append({
+                "property": prop, "method": name, "unit": "wt %",
+                "stated_error": "method repeatability", "provenance": "MEMORY",
+                "fitted_domain": "measured on the sample",
+                "citation": "EN 14103 (internal-standard GC), limit EN 14214:2012+A2:2019",
+                "note": "measured, no correlation; band: repeatability about 1 % (m/m)",
+            })
+            continue
         m = get_method(prop, name)
         stated = "none published" if m.error is None else f"{m.error_kind} {m.error:g}"
         rows.append({
@@ -175,7 +184,7 @@ def compare_lots(
                             dtype=object)
         ranked[f"verdict_{spec}"] = text
     table = table.set_index("sample").reindex(profile.samples)
-    for prop in KEY_PROPERTIES:
+    for prop in (*KEY_PROPERTIES, *specs.MEASURED_PROPERTIES):  # measured: only if given
         if prop in table.columns:
             ranked[prop] = table[prop].to_numpy(dtype=float)
             ranked[f"{prop}_error"] = table[f"{prop}_error"].to_numpy(dtype=float)
@@ -236,4 +245,6 @@ def long_estimates(profile: Profile) -> pd.DataFrame:
     predicted = estimate(profile.wt_pct, profile.samples)
     exact = specs.composition_estimates(profile.wt_pct, profile.samples)
     predicted = predicted.astype({"property": str, "method": str, "unit": str, "note": str})
-    return pd.concat([predicted, exact], ignore_index=True)
+    measured = specs.measured_estimates(profile.metadata, profile.samples)
+    return pd.concat([predicted, exact, *([measured] if len(measured) else [])],
+                     ignore_index=True)

@@ -116,9 +116,11 @@ def mix_constraints(
     >>> [c.label for c in mix_constraints("en14214", max_cfpp_C=-10)][-1]
     'CFPP <= -10 °C'
     """
-    from estimator.specs import limits
+    from estimator.specs import MEASURED_PROPERTIES, limits
 
     table = limits(spec, climate_class)
+    # a measured limit (EN 14103 ester content) is the plant's result, not the feedstock's
+    table = table[~table["property"].isin(MEASURED_PROPERTIES)]
     user = {"cfpp_C": max_cfpp_C, "cloud_point_C": max_cloud_point_C}
     out = []
     for row in table.itertuples(index=False):

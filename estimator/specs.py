@@ -40,6 +40,7 @@ from estimator.errors import UnknownNameError
 
 __all__ = [
     "EXACT_PROPERTIES",
+    "MEASURED_PROPERTIES",
     "PROPERTY_LABELS",
     "VERDICTS",
     "check",
@@ -47,6 +48,7 @@ __all__ = [
     "composition_estimates",
     "known_specs",
     "limits",
+    "measured_estimates",
     "normalise_climate_class",
     "spec_table",
     "summarise",
@@ -57,6 +59,10 @@ VERDICTS = ("meets", "too close to call", "fails", "not estimated")
 
 #: Properties fixed exactly by the composition (limits on the GC result itself).
 EXACT_PROPERTIES = ("linolenic_wt_pct", "pufa4_wt_pct")
+
+#: Properties measured on the sample (read from the profile's metadata, e.g. the EN 14103
+#: ester content from a GC peak table): judged only for samples that carry a value.
+MEASURED_PROPERTIES = ("ester_content_wt_pct",)
 
 #: Short names for the properties in verdict summaries, tables and plots.
 PROPERTY_LABELS = {
@@ -69,6 +75,7 @@ PROPERTY_LABELS = {
     "density_15C_kg_m3": "density",
     "kin_viscosity_40C_mm2_s": "viscosity",
     "linolenic_wt_pct": "linolenic ester",
+    "ester_content_wt_pct": "ester content",
     "pufa4_wt_pct": "esters with ≥ 4 double bonds",
     "hhv_MJ_kg": "higher heating value",
     "lhv_MJ_kg": "lower heating value",
@@ -209,6 +216,32 @@ def composition_estimates(wt_pct: np.ndarray, samples: Sequence[str]) -> pd.Data
     return pd.concat(parts, ignore_index=True)
 
 
+def measured_estimates(metadata: pd.DataFrame, samples: Sequence[str]) -> pd.DataFrame:
+    """Long-format rows for the measured properties a profile's metadata carries.
+
+    A column ``ester_content_wt_pct`` (with ``ester_content_wt_pct_error``, the EN 14103
+    repeatability, when present) becomes one row per sample that has a value; samples
+    without one get no row, so no verdict.
+    """
+    parts = []
+    for prop in MEASURED_PROPERTIES:
+        if prop not in metadata.columns:
+            continue
+        value = pd.to_numeric(metadata[prop], errors="coerce").reindex(list(samples))
+        err_col = f"{prop}_error"
+        error = (pd.to_numeric(metadata[err_col], errors="coerce").reindex(list(samples))
+                 if err_col in metadata.columns else pd.Series(np.nan, index=value.index))
+        keep = value.notna().to_numpy()
+        parts.append(pd.DataFrame({
+            "sample": np.asarray(list(samples), dtype=object)[keep], "property": prop,
+            "method": "EN 14103", "value": value.to_numpy(dtype=float)[keep], "unit": "wt %",
+            "error": error.to_numpy(dtype=float)[keep], "in_domain": True,
+            "note": "measured: internal-standard GC run (EN 14103)",
+        }))
+    columns = ["sample", "property", "method", "value", "unit", "error", "in_domain", "note"]
+    return pd.concat(parts, ignore_index=True) if parts else pd.DataFrame(columns=columns)
+
+
 def _as_long(estimates: pd.DataFrame) -> pd.DataFrame:
     """Accept the long estimates table or the wide view and return long rows."""
     if {"property", "value"} <= set(estimates.columns):
@@ -290,7 +323,8 @@ def check(
     long = long.loc[long["property"].isin(set(lim["property"])),
                     ["sample", "property", "method", "value", "error", "in_domain"]]
     present = long[["sample", "property"]].drop_duplicates()
-    wanted = pd.MultiIndex.from_product([samples, lim["property"].unique()],
+    judged = [p for p in lim["property"].unique() if p not in MEASURED_PROPERTIES]
+    wanted = pd.MultiIndex.from_product([samples, judged],
                                         names=["sample", "property"]).to_frame(index=False)
     missing = wanted.merge(present, how="left", indicator=True)
     missing = missing[missing["_merge"] == "left_only"].drop(columns="_merge")

@@ -78,6 +78,8 @@ PROFILE_BASES = ("fame", "fatty-acid", "oil")
 RANGE_EXTRA_QUANTITIES = ("iodine_value_oil",)  # read by estimator.profiles.ranges
 
 COMPOSITION_PROPERTIES = ("linolenic_wt_pct", "pufa4_wt_pct")  # EN 14214 GC limits
+#: Limits on a value measured on the sample (estimator.specs.MEASURED_PROPERTIES) -> unit.
+MEASURED_PROPERTIES = {"ester_content_wt_pct": "wt %"}  # EN 14214 ester content (EN 14103)
 SPEC_NAMES = ("en14214", "astm-d6751", "en590", "astm-d7467")
 CLIMATE_CLASSES = ("", "A", "B", "C", "D", "E", "F", "0", "1", "2", "3", "4")
 MARKS = ("VERIFIED", "MEMORY")
@@ -364,7 +366,7 @@ def spec_property_unit(prop: str) -> str | None:
         return PROPERTIES[prop]
     if prop in COMPOSITION_PROPERTIES:
         return DESCRIPTOR_UNITS[prop]
-    return None
+    return MEASURED_PROPERTIES.get(prop)
 
 
 def check_specs(table: Table) -> Result:

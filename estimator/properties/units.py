@@ -47,6 +47,9 @@ UNITS: dict[str, str] = {
     "mm2/s": "kinematic viscosity, square millimetres per second (= cSt)",
     # time
     "h": "time in hours (Rancimat induction period)",
+    "min": "time in minutes (GC retention time)",
+    # mass
+    "mg": "mass in milligrams (sample and internal standard weighed in)",
     # dimensionless
     "1": "dimensionless: a number, count, index, ratio or boolean flag",
 }

@@ -316,7 +316,8 @@ def ranking_section(comparison) -> Section:
     if "available_t" in r.columns:
         out["available [t]"] = r["available_t"]
     # columns other jobs add to the ranking (e.g. fixable failures), shown as they come
-    props = set(KEY_PROPERTIES) | {f"{p}_error" for p in KEY_PROPERTIES}
+    shown = (*KEY_PROPERTIES, "ester_content_wt_pct")
+    props = set(shown) | {f"{p}_error" for p in shown}
     for col in r.columns:
         if col not in _RANKING_KNOWN and col not in props and not col.startswith("verdict_"):
             out[column_label(col)] = readable_cells(r[col])
@@ -330,7 +331,7 @@ def ranking_section(comparison) -> Section:
         "fuel yield [t/t oil]": ".4f", "price [per t oil]": ",.0f",
         "feedstock cost [per t fuel]": ",.0f", "available [t]": ",.0f"})
     table = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
-    for prop in KEY_PROPERTIES:
+    for prop in shown:  # the ester content only when measured
         if prop in r.columns:
             table[column_label(prop)] = [
                 plus_minus(v, e) for v, e in zip(r[prop], r[f"{prop}_error"])]

@@ -84,6 +84,7 @@ _COLUMNS: dict[str, tuple[str, str]] = {
     "lhv_MJ_L": ("lower heating value", "MJ/L"),
     "linolenic_wt_pct": ("linolenic ester", "wt %"),
     "pufa4_wt_pct": ("esters with ≥ 4 double bonds", "wt %"),
+    "ester_content_wt_pct": ("ester content, EN 14103", "% (m/m)"),
     # composition descriptors, spelled out
     "mean_molar_mass_g_mol": ("mean molar mass", "g/mol"),
     "saponification_value_mgKOH_g": ("saponification value", "mg KOH/g"),
