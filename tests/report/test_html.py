@@ -216,21 +216,28 @@ def test_write_comparison_writes_tables_plots_and_report(demo, tmp_path):
 
 def test_write_comparison_draws_each_figure_once_and_svg_on_request(demo, tmp_path,
                                                                      monkeypatch):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
     comparison, plots, _, _ = demo
     for p in plots:  # drop any PNG kept by an earlier test
         p.figure.__dict__.pop("_fame_png", None)
-    calls: list[tuple[int, str]] = []
-    original = Figure.savefig
+    draws: list[int] = []
+    svgs: list[int] = []
+    agg_draw, savefig = FigureCanvasAgg.draw, Figure.savefig
 
-    def counting(self, fname, *args, **kwargs):
-        calls.append((id(self), kwargs.get("format", "")))
-        return original(self, fname, *args, **kwargs)
+    def counting_draw(self, *args, **kwargs):
+        draws.append(id(self.figure))
+        return agg_draw(self, *args, **kwargs)
 
-    monkeypatch.setattr(Figure, "savefig", counting)
+    def counting_savefig(self, fname, *args, **kwargs):
+        if kwargs.get("format") == "svg":
+            svgs.append(id(self))
+        return savefig(self, fname, *args, **kwargs)
+
+    monkeypatch.setattr(FigureCanvasAgg, "draw", counting_draw)
+    monkeypatch.setattr(Figure, "savefig", counting_savefig)
     written = report.write_comparison(comparison, tmp_path / "out", plots=plots, svg=True)
-    pngs = [c for c in calls if c[1] == "png"]
-    assert len(pngs) == len(set(pngs)) == len(plots)
-    assert sum(c[1] == "svg" for c in calls) == len(plots)
+    assert sorted(draws) == sorted(id(p.figure) for p in plots)  # one raster each
+    assert sorted(svgs) == sorted(id(p.figure) for p in plots)
     assert {p.suffix for p in written["plots"]} == {".png", ".svg"}
