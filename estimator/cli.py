@@ -68,12 +68,15 @@ def _temperatures(ctx, param, value: str | None) -> tuple[float, ...]:
 @click.option("--model", "models", multiple=True, type=click.Path(dir_okay=False),
               metavar="MODEL.json", help="Use a model fitted with 'fame-estimator fit' "
               "(repeatable).")
+@click.option("--descriptors", "show_descriptors", is_flag=True,
+              help="Also show the composition descriptors on the terminal (files always "
+              "hold them).")
 @click.option("--quiet", "-q", is_flag=True,
               help="With -o, print no answer on stdout (the file written is still named).")
 @click.option("-o", "--output", metavar="FILE", help="Write the table (.csv, .xlsx or .json); "
               "a one-line answer is still printed.")
 def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_standard,
-            methods, temperatures, models, quiet, output) -> None:
+            methods, temperatures, models, show_descriptors, quiet, output) -> None:
     """Fuel-property estimates and composition descriptors for each sample.
 
     Each estimate comes from a published correlation (see 'fame-estimator methods');
@@ -85,6 +88,7 @@ def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
     \b
     Examples:
       fame-estimator predict --oil rapeseed --oil soybean
+      fame-estimator predict --oil rapeseed --descriptors
       fame-estimator predict lots.csv -o estimates.xlsx
       fame-estimator predict --oil palm --methods all --temperatures 0,20,40,60
       fame-estimator predict gc_report.csv --basis oil --sum-tolerance 3
@@ -102,14 +106,16 @@ def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
         if output:
             emit(result.long, output)
         else:
-            emit(_long_for_terminal(result.long), None, footer=_methods_footer())
+            _print_columns(_long_for_terminal(result.long), footer=_methods_footer())
         return
     footer = _methods_footer()
     if models:
+        from estimator.report.labels import column_label
+
         method = result.long["method"].astype(str)
         fitted = result.long.loc[method.str.startswith("fit:"), "property"].astype(str)
-        footer = (f"From the fitted model file(s): {', '.join(dict.fromkeys(fitted))}.\n"
-                  + footer)
+        names = ", ".join(column_label(p, unit=False) for p in dict.fromkeys(fitted))
+        footer = f"From the fitted model file(s): {names}.\n" + footer
     if output:
         from estimator.cli_compare import refuse_unwritable_table
 
@@ -121,7 +127,8 @@ def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
                        "method's fitted domain (see the 'flags' column)")
         emit(result.wide, output)
     else:
-        emit(_wide_for_terminal(result.wide), None, footer=footer)
+        _print_columns(_wide_for_terminal(result.wide, descriptors=show_descriptors),
+                       footer=footer)
 
 
 def _predict_to_file(inputs, oils, basis, sum_tolerance, temperatures, models, output) -> None:
@@ -167,24 +174,62 @@ def _count_lines(paths) -> int:
     return lines
 
 
-def _wide_for_terminal(table):
-    """Merge each ``<property>`` with its ``<property>_error`` into one 'value ± error' cell."""
-    from estimator.report.tables import plus_minus
+def _print_columns(table, *, footer: str = "") -> None:
+    """One row per sample, wrapped to the terminal; flags and notes listed beneath."""
+    import shutil
 
-    out = table.copy()
-    for col in [c for c in table.columns if f"{c}_error" in table.columns]:
-        out[col] = plus_minus(table[col], table[f"{col}_error"])
-        out = out.drop(columns=f"{col}_error")
+    from estimator.report.labels import for_readers
+    from estimator.report.tables import format_columns
+
+    width = max(60, shutil.get_terminal_size((100, 24)).columns)
+    text_cols = [c for c in ("flags", "notes") if c in table.columns]
+    click.echo(format_columns(table.drop(columns=text_cols), width=width))
+    for col in text_cols:
+        lines = [(str(s), for_readers(v)) for s, v in zip(table.iloc[:, 0], table[col])
+                 if str(v)]
+        if lines:
+            click.echo(f"\n{col}:")
+            for sample, text in lines:
+                click.echo(f"  {sample}: {text}")
+    if footer:
+        click.echo("\n" + footer)
+
+
+def _wide_for_terminal(table, *, descriptors: bool = False):
+    """One row per sample; each property 'value ± error' under a label with its unit.
+
+    The composition descriptors follow under spelled-out names only with
+    ``descriptors``; ``flags`` and ``notes`` stay last (listed under the table).
+    """
+    import pandas as pd
+
+    from estimator.report.labels import column_label, plus_minus
+
+    out = pd.DataFrame({"sample": table["sample"].astype(str).to_numpy()})
+    props = [c for c in table.columns if f"{c}_error" in table.columns]
+    for col in props:
+        out[column_label(col)] = [plus_minus(v, e, missing="-") for v, e in
+                                  zip(table[col], table[f"{col}_error"])]
+    if descriptors:
+        skip = {"sample", "flags", "notes", *props, *(f"{c}_error" for c in props)}
+        for col in table.columns:
+            if col not in skip:
+                out[column_label(col)] = table[col].to_numpy()
+    for col in ("flags", "notes"):
+        if col in table.columns:
+            out[col] = table[col].to_numpy()
     return out
 
 
 def _long_for_terminal(long):
-    from estimator.report.tables import plus_minus
+    from estimator.report.labels import column_label, method_name, plus_minus, pretty_unit
 
-    out = long[["sample", "property", "method"]].copy()
-    out["estimate"] = plus_minus(long["value"], long["error"])
-    out["unit"] = long["unit"].astype(str)
-    out["in_domain"] = long["in_domain"].map({True: "yes", False: "NO"})
+    out = long[["sample"]].astype(str).copy()
+    out["property"] = long["property"].map(lambda p: column_label(p, unit=False))
+    out["method"] = long["method"].map(method_name)
+    out["estimate"] = [f"{plus_minus(v, e, missing='-')} {pretty_unit(str(u))}".rstrip()
+                       for v, e, u in zip(long["value"], long["error"], long["unit"])]
+    out["inside fitted domain"] = long["in_domain"].map({True: "yes", False: "NO"})
     return out
 
 

@@ -19,7 +19,8 @@ __all__ = ["report"]
               help="Folder for the tables, plots, model file and report.html.")
 @click.option("--allow-outside", is_flag=True,
               help="Let the scenario read files outside its own folder (refused by default).")
-def report(scenario_file, models, outdir, allow_outside) -> None:
+@click.option("--svg", is_flag=True, help="Also write each figure as SVG beside its PNG.")
+def report(scenario_file, models, outdir, allow_outside, svg) -> None:
     """Run a planning scenario (lots, diesel, targets, lab data) and write one report.
 
     SCENARIO_FILE is a JSON file naming the lots file and, optionally, a diesel with
@@ -30,9 +31,11 @@ def report(scenario_file, models, outdir, allow_outside) -> None:
     \b
     Examples:
       fame-estimator report data/demo/scenario.json -o out/demo
+      fame-estimator report data/demo/scenario.json -o out/demo --svg
     """
     from estimator.cautions import CAUTION_SHORT
     from estimator.files import protect_inputs
+    from estimator.report.labels import column_label, for_readers
     from estimator.report.scenario_report import write_scenario
     from estimator.report.tables import format_table
     from estimator.scenario import read_scenario, run_scenario
@@ -42,25 +45,31 @@ def report(scenario_file, models, outdir, allow_outside) -> None:
     result = run_scenario(scenario, progress=lambda text: click.echo(f"... {text}", err=True),
                           models=models)
     show_file_notes(result.profile)
-    written = write_scenario(result, outdir)
+    written = write_scenario(result, outdir, svg=svg)
     ranked = result.comparison.ranked
     cols = [c for c in ("rank", "sample", "decision", "cost_per_t_fuel") if c in ranked.columns]
+    shown = ranked[cols].rename(columns={"sample": "lot"})
+    shown = shown.rename(columns={c: column_label(c) for c in shown.columns})
     click.echo(f"{scenario.title}\n\nLots ranked (meeting every spec first, then failures a "
                "treatment fixes, then failures none fixes):")
-    click.echo(format_table(ranked[cols], transpose=False))
+    click.echo(format_table(shown, transpose=False))
     if result.blend is not None and result.blend["summary"] is not None:
         click.echo("\nHighest blend level (% v/v FAME; in brackets with the stated error "
                    f"taken against it), diesel {result.blend['diesel'].name}:")
-        click.echo(format_table(result.blend["summary"], transpose=False))
+        summary = result.blend["summary"]
+        click.echo(format_table(summary.rename(columns=for_readers), transpose=False))
     if result.mix is not None:
         m = result.mix
-        line = (f"{m.cost_per_t_fuel:.1f} per t of fuel" if m.feasible else m.message)
+        line = (f"{m.cost_per_t_fuel:.1f} per t of fuel" if m.feasible
+                else for_readers(m.message))
         click.echo(f"\nLeast-cost mix: {line}")
     for f in result.fits:
-        click.echo(f"\nrefit {f.property}: {f.statement}")
+        click.echo(f"\nLab's model for {column_label(f.property, unit=False)}: "
+                   f"{for_readers(f.statement)}")
     if result.model_properties:
         click.echo("\nFrom the lab's model, replacing the published estimates in every "
-                   "decision: " + "; ".join(f"{p} ({how})" for p, how in
-                                             result.model_properties.items()))
+                   "decision: " + "; ".join(
+                       f"{column_label(p, unit=False)} ({for_readers(how)})"
+                       for p, how in result.model_properties.items()))
     click.echo(f"\nwrote {written['report']} and the tables, plots and model beside it")
     click.echo(CAUTION_SHORT)

@@ -21,12 +21,50 @@ def run(*args: str):
     return CliRunner().invoke(cli, list(args))
 
 
-def test_predict_prints_a_readable_table_for_library_oils():
-    result = run("predict", "--oil", "rapeseed", "--oil", "soybean")
+def _table_lines(output: str) -> list[str]:
+    return output.split("\nflags:")[0].split("\nnotes:")[0].splitlines()
+
+
+def test_predict_prints_one_row_per_sample_with_units_in_the_headers():
+    result = CliRunner().invoke(cli, ["predict", "--oil", "rapeseed", "--oil", "soybean"],
+                                env={"COLUMNS": "200"})
     assert result.exit_code == 0, result.output
-    assert "iodine_value_gI2_100g" in result.output
-    assert "rapeseed" in result.output and "soybean" in result.output
-    assert " ± " in result.output  # every default estimate shows its error
+    lines = _table_lines(result.output)
+    rows = [line for line in lines if line.startswith(("rapeseed", "soybean"))]
+    assert [r.split()[0] for r in rows] == ["rapeseed", "soybean"]  # one row each
+    assert "CFPP [°C]" in result.output and "[g I₂/100 g]" in result.output
+    assert " ± " in rows[0]  # every default estimate shows its error
+    for machine in ("iodine_value_gI2_100g", "cfpp_C", "lcsf_wt_pct", "bape_wt_pct"):
+        assert machine not in result.output
+    assert "long-chain saturated factor" not in result.output  # descriptors on request
+
+
+def test_predict_descriptors_adds_spelled_out_descriptor_columns():
+    from estimator.cli import _wide_for_terminal
+    from estimator.profiles.profile import Profile
+    from estimator.workflows import predict
+
+    result = CliRunner().invoke(cli, ["predict", "--oil", "rapeseed", "--descriptors"],
+                                env={"COLUMNS": "100"})
+    assert result.exit_code == 0, result.output
+    assert "long-chain" in result.output and "bis-allylic" in result.output
+    wide = predict(Profile.from_oils(["rapeseed"])).wide
+    shown = list(_wide_for_terminal(wide, descriptors=True).columns)
+    for name in ("long-chain saturated factor [wt %]",
+                 "bis-allylic position equivalents [wt %]",
+                 "allylic position equivalents [wt %]", "saponification value [mg KOH/g]"):
+        assert name in shown, name
+    assert not [c for c in shown if "_" in c]
+    assert "bape_wt_pct" in wide.columns  # files keep the machine names
+
+
+def test_predict_wraps_the_table_to_a_narrow_terminal():
+    result = CliRunner().invoke(cli, ["predict", "--oil", "rapeseed", "--oil", "soybean"],
+                                env={"COLUMNS": "60"})
+    assert result.exit_code == 0, result.output
+    lines = _table_lines(result.output)
+    assert max(len(line) for line in lines) <= 60
+    assert sum(line.startswith("rapeseed") for line in lines) >= 3  # continued in blocks
 
 
 @pytest.mark.parametrize("suffix", [".csv", ".xlsx", ".json"])
@@ -171,7 +209,7 @@ def test_predict_with_a_model_file_replaces_the_fitted_property(tmp_path):
     # the lab law adds +2.0 to Bamgboye-Hansen (LAB.md): the fitted value differs
     assert table.loc[0, "cetane_number"] != pytest.approx(plain.loc[0, "cetane_number"], abs=0.05)
     shown = run("predict", "--oil", "rapeseed", "--model", str(model))
-    assert "From the fitted model file(s): cetane_number." in shown.output
+    assert "From the fitted model file(s): cetane number." in shown.output
 
 
 def test_an_output_that_is_an_input_is_refused(tmp_path):

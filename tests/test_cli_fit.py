@@ -68,7 +68,8 @@ def test_fit_writes_one_model_file_and_a_report_folder_beside_it(model_path):
     assert "report.html" in names and "scores.csv" in names
     assert "cfpp_C_parity.png" in names and "cetane_number_residuals.png" in names
     html = (folder / "report.html").read_text(encoding="utf-8")
-    assert "CFPP (cfpp_C)" in html and "data:image/png;base64," in html
+    assert "<h3>CFPP</h3>" in html and "data:image/png;base64," in html
+    assert "(cfpp_C)" not in html  # readers see the property's name, not its column
     scores = pd.read_csv(folder / "scores.csv")
     assert set(scores["property"]) == {"cfpp_C", "cetane_number"}
     assert scores.groupby("property")["chosen"].sum().tolist() == [1, 1]

@@ -98,7 +98,7 @@ def test_check_without_a_samples_sheet_gives_no_ester_verdict():
 def test_predict_reads_peak_tables_with_reference():
     result = run("predict", RUNS, "--reference", REF)
     assert result.exit_code == 0, result.output
-    assert "TW-0815 tallow" in result.output and "cetane_number" in result.output
+    assert "TW-0815 tallow" in result.output and "cetane" in result.output
 
 
 def test_samples_sheet_without_reference_is_a_usage_error():

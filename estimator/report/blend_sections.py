@@ -14,31 +14,24 @@ import numpy as np
 import pandas as pd
 
 from estimator.report.html import Section, bullet_list, figure_html, paragraph, table_html
+from estimator.report.labels import (
+    column_label,
+    for_readers,
+    plus_minus,
+    readable_cells,
+    spec_name,
+)
 
 __all__ = [
     "blend_sections",
+    "levels_matrix",
     "mix_sections",
     "write_blend_report",
     "write_mix_report",
 ]
 
-_SHORT = {
-    "density_15C_kg_m3": "density 15 °C [kg/m3]",
-    "kin_viscosity_40C_mm2_s": "viscosity 40 °C [mm2/s]",
-    "cetane_number": "cetane number",
-    "hhv_MJ_kg": "HHV [MJ/kg]",
-    "lhv_MJ_kg": "LHV [MJ/kg]",
-    "lhv_MJ_L": "LHV [MJ/L]",
-    "cloud_point_C": "cloud point [°C]",
-    "cfpp_C": "CFPP [°C]",
-}
-
-
-def _pm_column(values, errors, decimals: int) -> list[str]:
-    from estimator.report.html import _no_minus_zero
-
-    return [f"{_no_minus_zero(v, decimals)} ± {e:.{decimals}f}" if e > 0
-            else _no_minus_zero(v, decimals) for v, e in zip(values, errors)]
+_SHOWN = ("density_15C_kg_m3", "kin_viscosity_40C_mm2_s", "cetane_number", "hhv_MJ_kg",
+          "lhv_MJ_kg", "lhv_MJ_L", "cloud_point_C", "cfpp_C")
 
 
 def blend_sections(
@@ -77,7 +70,7 @@ def blend_sections(
     )
     body = intro
     if highest is not None and len(highest):
-        body += table_html(_levels_matrix(highest))
+        body += table_html(levels_matrix(highest))
     sections.append(Section("Blend summary", body))
     if figure is not None:
         sections.append(Section("Blend curves", figure_html(
@@ -88,22 +81,22 @@ def blend_sections(
     shown = wide if levels is None else wide[wide["level_pct_v"].isin(list(levels))]
     table = pd.DataFrame({"sample": shown["sample"],
                           "level": [f"B{v:g}" for v in shown["level_pct_v"]]})
-    decimals = {"density_15C_kg_m3": 1, "kin_viscosity_40C_mm2_s": 2, "cetane_number": 1,
-                "hhv_MJ_kg": 2, "lhv_MJ_kg": 2, "lhv_MJ_L": 2, "cloud_point_C": 1,
-                "cfpp_C": 1}
-    for prop, label in _SHORT.items():
-        table[label] = _pm_column(shown[prop], shown[f"{prop}_error"], decimals[prop])
-    sections.append(Section("Blend table", table_html(table)))
+    for prop in _SHOWN:
+        if prop in shown.columns:
+            table[column_label(prop)] = [plus_minus(v, e) for v, e in
+                                         zip(shown[prop], shown[f"{prop}_error"])]
+    sections.append(Section("Blend table", paragraph(
+        "Each value to the precision its error supports.") + table_html(table)))
     if highest is not None:
         h = highest[["sample", "group", "target", "highest_level_pct_v",
                      "highest_level_with_error_pct_v", "how"]].copy()
-        h["group"] = h["group"].map(
-            lambda g: {"target": "your target", "en590": "EN 590",
-                       "astm-d7467": "ASTM D7467"}.get(g, g))
+        h["group"] = h["group"].map(spec_name)
+        h["target"] = h["target"].map(for_readers)
+        h["how"] = h["how"].map(for_readers)
         h = h.rename(columns={
             "group": "from",
             "highest_level_pct_v": "highest B [% v/v]",
-            "highest_level_with_error_pct_v": "with the error against it",
+            "highest_level_with_error_pct_v": "with the error against it [% v/v]",
         })
         sections.append(Section("Highest blend levels", table_html(h, digits=3)))
     rows = []
@@ -111,8 +104,9 @@ def blend_sections(
         kind, size = RULE_ERRORS[prop]
         err = f"{100 * size:g} %" if kind == "relative" else f"{size:g}"
         for i, m in enumerate(methods):
-            rows.append({"property": prop, "mixing rule": m, "default": i == 0,
-                         "rule error at B50": err})
+            rows.append({"property": column_label(prop, unit=False),
+                         "mixing rule": for_readers(m.replace("_", " ")),
+                         "default": i == 0, "rule error at B50": err})
     sections.append(Section("Blend methods", paragraph(
         "Component errors (the FAME's from its estimate, the diesel's from its description) "
         "are propagated through each rule and added in quadrature to a mixing-rule error "
@@ -125,7 +119,7 @@ def blend_sections(
     return sections
 
 
-def _levels_matrix(highest: pd.DataFrame) -> pd.DataFrame:
+def levels_matrix(highest: pd.DataFrame) -> pd.DataFrame:
     """Samples x targets: 'B12.3 (B8.1)' per cell, 'none' where no level meets it."""
     shown = highest[(highest["group"] == "target") | (highest["property"] == "all")]
 
@@ -139,6 +133,7 @@ def _levels_matrix(highest: pd.DataFrame) -> pd.DataFrame:
     table = frame.pivot(index="sample", columns="target", values="cell")
     table = table.reindex(index=list(dict.fromkeys(frame["sample"])),
                           columns=list(dict.fromkeys(frame["target"])))
+    table.columns = [for_readers(c) for c in table.columns]
     return table.reset_index()
 
 
@@ -150,20 +145,22 @@ def mix_sections(result, *, figure=None) -> list[Section]:
     sections = []
     if result.feasible:
         head = (f"Least-cost mix: {result.cost_per_t_fuel:,.1f} per t of fuel (oil, methanol, "
-                f"catalyst, pretreatment, less the glycerol credit; {result.solver}). Shares "
-                "are of the fuel's mass.")
-    margin = float(getattr(result, "margin_bands", 0.0))
-    head += (f" Every limit was moved {margin:g} stated error(s) inside (margin), so that the "
-             "mix's own verdict is not 'too close to call'." if margin > 0 else
-             " No margin was asked for: the mix may sit on its limits.")
+                "catalyst, pretreatment, less the glycerol credit). Shares are of the fuel's "
+                "mass.")
+        margin = float(getattr(result, "margin_bands", 0.0))
+        head += (f" Every limit was moved {margin:g} stated error(s) inside (margin), so that "
+                 "the mix's own verdict is not 'too close to call'." if margin > 0 else
+                 " No margin was asked for: the mix may sit on its limits.")
+    else:
+        head = f"{for_readers(result.message)}."
     from_model = getattr(result, "model_properties", None) or {}
     if from_model:
         head += " From the lab's model, replacing the published estimates: " + "; ".join(
-            f"{p} ({how})" for p, how in from_model.items()) + "."
-    else:
-        head = f"{result.message}."
+            f"{column_label(p, unit=False)} ({for_readers(how)})"
+            for p, how in from_model.items()) + "."
     sections.append(Section("Mix summary", paragraph(head + " " + CAUTION_SHORT)
-                            + (bullet_list(result.notes) if result.notes else "")))
+                            + (bullet_list(for_readers(n) for n in result.notes)
+                               if result.notes else "")))
     if figure is not None:
         sections.append(Section("Mix figure", figure_html(
             figure, alt="Shares of each lot and headroom to each limit",
@@ -172,22 +169,46 @@ def mix_sections(result, *, figure=None) -> list[Section]:
     cols = [c for c in ("lot", "share_mass_pct", "oil_share_mass_pct", "cost_per_t_fuel",
                         "fuel_t", "oil_t", "available_t", "valuation_note")
             if c in result.lots.columns]
-    sections.append(Section("Lots and shares", table_html(result.lots[cols])))
-    c = result.constraints[[k for k in (
-        "constraint", "limit", "limit_with_margin", "value", "error", "headroom",
-        "headroom_bands", "binding", "meets", "linear_form") if k in result.constraints]]
-    sections.append(Section("Limits on the mixed fuel", table_html(c)))
+    lots = result.lots[cols].copy()
+    if "valuation_note" in lots.columns:
+        lots["valuation_note"] = lots["valuation_note"].map(for_readers)
+    lots.columns = ["note" if c == "valuation_note" else column_label(c) for c in cols]
+    sections.append(Section("Lots and shares", table_html(lots)))
+    c = result.constraints
+    limits = pd.DataFrame({"limit": c["constraint"].map(for_readers)})
+    for col, name in (("value", "value of the mix"), ("margin", "margin to the limit"),
+                      ("binding", "sets the mix"), ("meets", "met")):
+        if col in c.columns:
+            limits[name] = c[col].to_numpy()
+    extra = [k for k in c.columns if k not in {"constraint", "property", "kind", "limit",
+                                               "value", "margin", "binding", "meets",
+                                               "linear_form"}]
+    for k in extra:
+        limits[column_label(k)] = readable_cells(c[k]).to_numpy()
+    sections.append(Section("Limits on the mixed fuel", table_html(limits)))
     if result.verdicts is not None:
-        v = result.verdicts[["spec", "property", "estimate", "error", "limit", "verdict"]]
+        v = result.verdicts
+        table = pd.DataFrame({
+            "specification": v["spec"].map(spec_name),
+            "property": v["property"].map(lambda p: column_label(p, unit=False)),
+            "estimate": [plus_minus(e, s) for e, s in zip(v["estimate"], v["error"])],
+            "limit": v["limit"],
+            "verdict": v["verdict"],
+        })
         sections.append(Section("Verdicts with the stated errors",
-                                table_html(v, verdict_columns=["verdict"])))
+                                table_html(table, verdict_columns=["verdict"])))
     if result.diagnosis is not None:
-        sections.append(Section("Why no mix meets the limits", table_html(result.diagnosis)))
+        d = result.diagnosis.copy()
+        for k in d.columns:
+            d[k] = readable_cells(d[k])
+        d.columns = [column_label(k) for k in d.columns]
+        sections.append(Section("Why no mix meets the limits", table_html(d)))
     comp = result.composition[result.composition > 0]
     sections.append(Section("Profile of the mixed fuel", table_html(pd.DataFrame({
         "species": comp.index, "wt %": np.round(comp.to_numpy(), 3)}))))
-    sections.append(Section("Valuation assumptions", table_html(assumptions(
-        costs=getattr(result, "costs", None)))))
+    a = assumptions(costs=getattr(result, "costs", None))
+    sections.append(Section("Valuation assumptions", table_html(a.assign(
+        basis=a["basis"].map(for_readers)))))
     return sections
 
 

@@ -13,6 +13,7 @@ import pandas as pd
 
 from estimator.report.fit_plots import property_label
 from estimator.report.html import Section, bullet_list, figure_html, paragraph, table_html
+from estimator.report.labels import column_label, for_readers, pretty_unit
 
 __all__ = [
     "REPORT_SUFFIX",
@@ -39,7 +40,8 @@ def summary_section(fits: Sequence, source: str = "") -> Section:
     """One line per property: the choice, its band, and whether it beats the references."""
     from estimator.refit.crossval import BEAT_MARGIN
 
-    items = [f"{property_label(f.property)}: {f.statement}" for f in fits]
+    items = [f"{column_label(f.property, unit=False)}: {for_readers(f.statement)}"
+             for f in fits]
     intro = paragraph(
         f"Lab samples from {source or 'the lab file'}. Every score below is on held-out "
         "samples: each candidate was fitted without the samples it is scored on "
@@ -68,7 +70,7 @@ def _score_frame(fit) -> pd.DataFrame:
     from estimator.refit.wording import KIND_WORDS, candidate_words
 
     table = fit.score_table()
-    unit = "" if fit.unit == "1" else f" [{fit.unit}]"
+    unit = "" if not pretty_unit(fit.unit) else f" [{pretty_unit(fit.unit)}]"
     frame = pd.DataFrame({
         "candidate": [candidate_words(c, fit.property) for c in table["candidate"]],
         "what it is": table["kind"].map(KIND_WORDS),
@@ -78,7 +80,7 @@ def _score_frame(fit) -> pd.DataFrame:
         f"CV bias{unit}": table["cv_bias"],
         "CV R²": table["cv_r2"],
         "chosen": table["chosen"].map({True: "chosen", False: ""}),
-        "note": table["note"],
+        "note": table["note"].map(for_readers),
     })
     return frame if (frame["note"] != "").any() else frame.drop(columns="note")
 
@@ -89,7 +91,7 @@ def property_section(fit, figures: Mapping | None = None) -> Section:
 
     figures = fit_figures(fit) if figures is None else figures
     dom = fit.model.domain
-    body = paragraph(fit.statement)
+    body = paragraph(for_readers(fit.statement))
     body += paragraph(
         f"{len(fit.measured)} measured samples, {fit.scheme.name} (seed {fit.scheme.seed}). "
         "Candidates are listed best CV RMSE first; candidates within the tie tolerance of "
@@ -97,11 +99,12 @@ def property_section(fit, figures: Mapping | None = None) -> Section:
         "ridge 4-5, Gaussian process 6). The mean-only baseline (rank -1) is a yardstick, "
         "never chosen."
     )
-    body += table_html(_score_frame(fit), caption=f"{fit.property}: cross-validated scores")
+    body += table_html(_score_frame(fit), caption=f"{column_label(fit.property, unit=False)}: "
+                       "scores on held-out samples")
     if fit.skipped:
-        body += paragraph("Not evaluated: " + "; ".join(fit.skipped))
+        body += paragraph("Not evaluated: " + "; ".join(for_readers(x) for x in fit.skipped))
     for note in fit.notes:
-        body += paragraph(f"Note: {note}")
+        body += paragraph(f"Note: {for_readers(note)}")
     label = property_label(fit.property)
     body += figure_html(
         figures["parity"], alt=f"parity plot of {label}",
@@ -116,12 +119,13 @@ def property_section(fit, figures: Mapping | None = None) -> Section:
                 "trend line with a clear slope means the model misses that effect.",
     )
     body += paragraph(
-        "Training domain for predict --model: a new sample is flagged out of domain when "
+        "Training domain of the model file: a new sample is flagged out of domain when "
         f"a main ester lies outside the lab's range (widened by 5 %) or it lies more than "
         f"{dom.threshold:.2f} standardized units from its nearest lab sample (the 95th "
         "percentile of the lab samples' leave-one-out nearest distances)."
     )
-    return Section(f"{label} ({fit.property})", body, id=f"fit-{fit.property}")
+    return Section(label[0].upper() + label[1:], body, id=f"fit-{fit.property}",
+                   group="Each property")
 
 
 def usage_section(model_file: str) -> Section:
@@ -132,7 +136,7 @@ def usage_section(model_file: str) -> Section:
         "uncertainty from cross-validation as its error (±) and an in-domain flag from the "
         "lab's training domain. The model file is plain JSON with a checksum; it holds no "
         "code, and files beyond its stated size and range bounds are refused."
-    ))
+    ), group="Using the model file")
 
 
 def fit_sections(fits: Sequence, figures: Mapping | None = None, *, source: str = "",
@@ -150,11 +154,13 @@ def fit_sections(fits: Sequence, figures: Mapping | None = None, *, source: str 
 
 
 def write_fit_report(fits: Sequence, model_path: str | Path, *, table: pd.DataFrame,
-                     groups: Mapping[str, str] | None = None, source: str = "") -> Path:
+                     groups: Mapping[str, str] | None = None, source: str = "",
+                     svg: bool = False) -> Path:
     """Write ``<stem>_fit_report/`` beside the model file: scores, plots and report.html.
 
     ``scores.csv`` (every candidate of every property, with the caution), each
-    ``<property>_parity`` and ``<property>_residuals`` as PNG and SVG, and the
+    ``<property>_parity`` and ``<property>_residuals`` as PNG (drawn once, the same
+    image the report embeds; SVG too with ``svg=True``), and the
     self-contained ``report.html``. ``groups`` (sample id -> e.g. its feedstock) colours
     the plots. Returns the folder.
     """
@@ -173,13 +179,14 @@ def write_fit_report(fits: Sequence, model_path: str | Path, *, table: pd.DataFr
         fit_groups = None if groups is None else [str(groups.get(s, "")) for s in f.samples]
         figs = fit_figures(f, groups=fit_groups)
         for kind, fig in figs.items():
-            save_figure(fig, folder / f"{f.property}_{kind}")
+            save_figure(fig, folder / f"{f.property}_{kind}", svg=svg)
         figures[f.property] = figs
     build_report(
         "Refit on lab samples", fit_sections(fits, figures, source=source,
                                              model_file=model_path.name),
         folder / "report.html",
-        subtitle=f"{source or 'lab file'}: {', '.join(f.property for f in fits)}",
+        subtitle=f"{source or 'lab file'}: "
+                 f"{', '.join(column_label(f.property, unit=False) for f in fits)}",
     )
     return folder
 

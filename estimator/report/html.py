@@ -54,6 +54,9 @@ class Section:
     title: str
     html: str
     id: str = field(default="")
+    #: Sections sharing a group are shown together under one collapsible heading;
+    #: a section without a group is shown open (the summary).
+    group: str = field(default="")
 
     @property
     def anchor(self) -> str:
@@ -77,6 +80,8 @@ def bullet_list(items: Iterable[str]) -> str:
 
 
 def _cell(value: object, digits: int) -> str:
+    from estimator.report.labels import format_value
+
     if value is None:
         return ""
     if isinstance(value, (bool, np.bool_)):
@@ -84,13 +89,9 @@ def _cell(value: object, digits: int) -> str:
     if isinstance(value, (float, np.floating)):
         if math.isnan(value):
             return "–"
-        if value == 0:
-            return "0"
-        mag = abs(float(value))
-        if mag >= 10 ** digits:
+        if abs(value) >= 10 ** digits:
             return f"{value:,.0f}"
-        decimals = max(0, digits - 1 - int(math.floor(math.log10(mag))))
-        return f"{value:.{decimals}f}"
+        return format_value(float(value), digits)
     if isinstance(value, (int, np.integer)):
         return str(value)
     return str(value)
@@ -135,11 +136,14 @@ def table_html(
             f"<tbody>{''.join(rows)}</tbody></table></div>")
 
 
-def figure_html(fig, *, alt: str, caption: str | None = None, dpi: int = 110) -> str:
-    """A figure embedded as a base64 PNG ``<img>`` with alt text and caption."""
-    from estimator.report.plots import figure_png_base64
+def figure_html(fig, *, alt: str, caption: str | None = None, dpi: int | None = None) -> str:
+    """A figure embedded as a base64 PNG ``<img>`` with alt text and caption.
 
-    data = figure_png_base64(fig, dpi=dpi)
+    The PNG is the one :func:`estimator.report.plots.save_figure` writes (drawn once).
+    """
+    from estimator.report.plots import PNG_DPI, figure_png_base64
+
+    data = figure_png_base64(fig, dpi=dpi or PNG_DPI)
     cap = f"<figcaption>{html.escape(caption)}</figcaption>" if caption else ""
     return (f'<figure><img src="data:image/png;base64,{data}" alt="{html.escape(alt)}">'
             f"{cap}</figure>")
@@ -148,52 +152,93 @@ def figure_html(fig, *, alt: str, caption: str | None = None, dpi: int = 110) ->
 _CSS = """
 body{font-family:system-ui,-apple-system,"Segoe UI",Roboto,Arial,sans-serif;margin:0;
 color:#222;line-height:1.45;background:#fff}
-main{max-width:1100px;margin:0 auto;padding:1.5rem 1.5rem 3rem}
-h1{font-size:1.7rem;margin:.2rem 0}h2{font-size:1.3rem;margin-top:2.2rem;
-border-bottom:2px solid #ddd;padding-bottom:.2rem}
+main{max-width:1180px;margin:0 auto;padding:1.2rem 1.5rem 3rem}
+h1{font-size:1.6rem;margin:.2rem 0}h2{font-size:1.25rem;margin:1.6rem 0 .5rem;
+border-bottom:2px solid #ddd;padding-bottom:.2rem}h3{font-size:1.05rem;margin:1.2rem 0 .4rem}
 .subtitle{color:#555;margin-top:0}
-.caution{border-left:6px solid #CC6677;background:#fbeff1;padding:.7rem 1rem;margin:1rem 0}
-nav ol{columns:2;font-size:.95rem}
-.scroll{overflow-x:auto;margin:.6rem 0}
+.caution{border-left:6px solid #CC6677;background:#fbeff1;padding:.5rem 1rem;margin:.8rem 0}
+.scroll{overflow-x:auto;max-width:100%;margin:.5rem 0}
 table{border-collapse:collapse;font-size:.86rem}
 caption{text-align:left;font-weight:600;padding:.3rem 0}
-th,td{border:1px solid #ccc;padding:.25rem .45rem;vertical-align:top;text-align:left;
+th,td{border:1px solid #ccc;padding:.22rem .45rem;vertical-align:top;text-align:left;
 overflow-wrap:break-word}
-th{background:#f2f2f2;position:sticky;top:0}
+th{background:#f2f2f2}
 td.num{text-align:right;font-variant-numeric:tabular-nums}td.nw{white-space:nowrap}
 td.v-meets{background:#e3f1e6}td.v-too-close-to-call{background:#f7f1d9}
 td.v-fails{background:#f6e0e4}td.v-not-estimated{background:#eee}
 figure{margin:1rem 0;break-inside:avoid}figure img{max-width:100%;height:auto;
 border:1px solid #eee}
 figcaption{font-size:.9rem;color:#444;margin-top:.3rem}
-footer{color:#555;font-size:.85rem;margin-top:3rem}
-@media print{nav{display:none}h2{break-after:avoid}th{position:static}}
+details{border-top:1px solid #ddd;margin:0}details>summary{cursor:pointer;padding:.55rem 0;
+font-size:1.15rem;font-weight:600}details>summary span{font-weight:400;color:#666;
+font-size:.9rem}details[open]>summary{border-bottom:2px solid #ddd;margin-bottom:.4rem}
+.lead h2{margin-top:.8rem}.lead h3{margin:.9rem 0 .3rem}.lead ul{margin:.3rem 0;
+padding-left:1.3rem}.lead p{margin:.3rem 0}
+.more{color:#555;font-size:.9rem;margin-top:1.4rem}
+footer{color:#555;font-size:.85rem;margin-top:2rem}
+@page{size:A4;margin:10mm 11mm}
+@media print{body{font-size:8.5pt;line-height:1.28}main{max-width:none;padding:0}
+h1{font-size:12pt}.subtitle{margin:0}h2{font-size:10.5pt;margin:.3rem 0 .15rem}
+.lead h3{font-size:9pt;margin:.35rem 0 .1rem}.lead p{margin:.1rem 0}.lead ul{margin:.1rem 0}
+table{font-size:7.4pt}th,td{padding:.02rem .25rem;line-height:1.2}.scroll{margin:.2rem 0;
+overflow:visible}.caution{padding:.2rem .5rem;margin:.3rem 0;font-size:7.5pt}
+.lead{break-after:page}.more,footer .caution{display:none}
+details>summary{font-size:10pt;padding:.2rem 0}h2,h3{break-after:avoid}
+td.v-meets,td.v-too-close-to-call,td.v-fails{print-color-adjust:exact;
+-webkit-print-color-adjust:exact}}
 """
 
 
 def render_report(
     title: str, sections: Sequence[Section], *, subtitle: str = "", caution: str = CAUTION
 ) -> str:
-    """The whole report page as a string (see :func:`build_report`)."""
+    """The whole report page as a string (see :func:`build_report`).
+
+    Sections without a group are shown open at the top (the one-page summary); the
+    others follow under one collapsible ``<details>`` per group (or per section,
+    when it has no group of its own but comes after a grouped one), in the order
+    given. No script: the page works and prints without one.
+    """
     seen: set[str] = set()
-    parts, toc = [], []
+    lead, blocks = [], []  # blocks: [group title, [section html]]
     for section in sections:
         anchor = section.anchor
         while anchor in seen:
             anchor += "-x"
         seen.add(anchor)
-        toc.append(f'<li><a href="#{anchor}">{html.escape(section.title)}</a></li>')
-        parts.append(f'<section id="{anchor}"><h2>{html.escape(section.title)}</h2>'
-                     f"{section.html}</section>")
+        if not section.group and not blocks:
+            lead.append(f'<section id="{anchor}"><h2>{html.escape(section.title)}</h2>'
+                        f"{section.html}</section>")
+            continue
+        group = section.group or section.title
+        inner = (f'<section id="{anchor}"><h3>{html.escape(section.title)}</h3>'
+                 f"{section.html}</section>") if section.group else \
+            f'<section id="{anchor}">{section.html}</section>'
+        if blocks and blocks[-1][0] == group and section.group:
+            blocks[-1][1].append((section.title, inner))
+        else:
+            blocks.append((group, [(section.title, inner)]))
+    parts = []
+    for group, items in blocks:
+        names = [t for t, _ in items if t != group]
+        hint = f' <span>({html.escape(", ".join(names))})</span>' if len(names) > 1 else ""
+        gid = re.sub(r"[^a-z0-9]+", "-", group.lower()).strip("-") or "part"
+        while gid in seen:
+            gid += "-x"
+        seen.add(gid)
+        parts.append(f'<details id="{gid}"><summary>{html.escape(group)}{hint}</summary>'
+                     f"{''.join(h for _, h in items)}</details>")
     sub = f'<p class="subtitle">{html.escape(subtitle)}</p>' if subtitle else ""
     warn = f'<div class="caution"><strong>Caution.</strong> {html.escape(caution)}</div>'
+    more = ('<p class="more">The details follow in the order of the decisions above; '
+            "open a heading to read it.</p>") if parts else ""
     return (
         "<!DOCTYPE html>\n"
         f'<html lang="en"><head><meta charset="utf-8">'
         f'<meta name="viewport" content="width=device-width, initial-scale=1">'
         f"<title>{html.escape(title)}</title><style>{_CSS}</style></head>"
         f"<body><main><header><h1>{html.escape(title)}</h1>{sub}</header>{warn}"
-        f"<nav><strong>Contents</strong><ol>{''.join(toc)}</ol></nav>"
+        f'<div class="lead">{"".join(lead)}</div>{more}'
         f"{''.join(parts)}"
         f"<footer>{warn}<p>Made with fame-estimator.</p></footer></main></body></html>\n"
     )
@@ -212,96 +257,50 @@ def build_report(
 
 # ------------------------------------------------------ the buyer's comparison
 def _spec_label(spec: str) -> str:
-    from estimator.comparison import SPEC_LABELS
+    from estimator.report.labels import spec_name
 
-    return SPEC_LABELS.get(spec, spec)
+    return spec_name(spec)
 
 
 def plus_minus(value: float, error: float) -> str:
-    """``55.1 ± 3.3``: decimals by magnitude and error; no ± for a zero or unknown error."""
-    import math
+    """``55.1 ± 3.3``: see :func:`estimator.report.labels.plus_minus` (the one formatter)."""
+    from estimator.report.labels import plus_minus as pm
 
-    if value != value:  # NaN
-        return "not estimated"
-    mag = abs(value)
-    decimals = 0 if mag >= 100 else 1 if mag >= 1 else 2
-    if error == error and error > 0:
-        decimals = min(2, max(decimals, -math.floor(math.log10(error))))
-        return f"{_no_minus_zero(value, decimals)} ± {error:.{decimals}f}"
-    return _no_minus_zero(value, decimals)
-
-
-def _no_minus_zero(value: float, decimals: int) -> str:
-    """``-0.0`` prints as ``0.0``."""
-    text = f"{value:.{decimals}f}"
-    return text[1:] if text.startswith("-") and float(text) == 0 else text
+    return pm(value, error, missing="not estimated")
 
 
 def summary_section(comparison) -> Section:
-    """What was compared, against what, and the headline outcome."""
-    ranked = comparison.ranked
-    specs_text = ", ".join(_spec_label(s) for s in comparison.specs)
-    counts = ranked["overall"].value_counts()
-    cls = comparison.climate_class
-    ffa = ("acid pretreatment (esterified to fuel)" if comparison.pretreat == "acid"
-           else "base catalysis (FFA lost to soap)")
-    items = [
-        f"{len(ranked)} lots from {comparison.profile.source or 'the input'}.",
-        f"Specifications: {specs_text}; editions as listed under 'Specification limits'.",
-        f"Climate class: {cls}." if cls else
-        "No climate class chosen: CFPP is estimated but not judged (choose a grade A-F or "
-        "an arctic class 0-4).",
-        f"FFA handling: {ffa}; methanol : oil molar ratio {comparison.methanol_ratio:g} : 1.",
-        "Processing costs: " + ("the stated defaults (assumptions; see 'Assumptions')"
-                                if getattr(comparison, "costs", None) is None
-                                or comparison.costs.source == "defaults" else
-                                f"from {comparison.costs.source} (see 'Assumptions')") + ".",
-        "Outcome: " + ", ".join(f"{int(counts.get(k, 0))} {k}" for k in
-                                ("meets", "too close to call", "fails") if counts.get(k, 0))
-        + " (worst verdict over every limit checked).",
-    ]
-    from_model = getattr(comparison, "model_properties", None) or {}
-    if from_model:
-        items.append("From the lab's model, replacing the published estimates in verdicts "
-                     "and ranking: " + "; ".join(f"{p} ({how})" for p, how in
-                                                 from_model.items()) + ".")
-    best = ranked.iloc[0]
-    if best["overall"] == "meets":
-        items.append(f"First choice: {best['sample']} (meets every specification checked, "
-                     f"feedstock cost {_cell(best['cost_per_t_fuel'], 4)} per t of fuel).")
-    else:
-        items.append("No lot meets every specification checked on these estimates; the "
-                     "ranking puts the least doubtful and cheapest first.")
-    v = comparison.verdicts
-    os_fails = v[(v["property"] == "oxidation_stability_110C_h") & (v["verdict"] == "fails")]
-    if len(os_fails):
-        lots = ", ".join(dict.fromkeys(os_fails["sample"].astype(str)))
-        items.append(
-            f"Oxidation stability fails for {lots}: the Rancimat estimate is for the esters "
-            "alone, without antioxidant. Producers commonly dose an antioxidant to reach "
-            "the limit (common practice); whether a dosed fuel passes is for the laboratory "
-            "test to show."
-        )
-    return Section("Summary", bullet_list(items))
+    """The decisions first: lots ranked with the reason each fails, and the cautions."""
+    from estimator.report.summary import decision_summary
+
+    return decision_summary(comparison)
 
 
-_PROPERTY_HEADERS = {
-    "cetane_number": "cetane number [-]",
-    "iodine_value_gI2_100g": "iodine value [g I2/100 g]",
-    "cfpp_C": "CFPP [°C]",
-    "cloud_point_C": "cloud point [°C]",
-    "oxidation_stability_110C_h": "oxidation stability 110 °C [h]",
-    "density_15C_kg_m3": "density 15 °C [kg/m³]",
-    "kin_viscosity_40C_mm2_s": "viscosity 40 °C [mm²/s]",
-    "linolenic_wt_pct": "linolenic ester [wt %]",
-    "pufa4_wt_pct": "esters with ≥ 4 double bonds [wt %]",
-    "ester_content_wt_pct": "ester content, EN 14103 [% (m/m)]",
-}
+_LOTS = "Lots: ranking, verdicts and costs"
+_REFERENCE = "Methods, limits and sources"
+
+
+def _readable_frame(frame: pd.DataFrame) -> pd.DataFrame:
+    """Columns as readable labels, text cells in words (for columns others add)."""
+    from estimator.report.labels import column_label, readable_cells
+
+    out = frame.copy()
+    for col in out.columns:
+        out[col] = readable_cells(out[col])
+    out.columns = [column_label(c) for c in out.columns]
+    return out
+
+
+_RANKING_KNOWN = {"rank", "sample", "supplier", "feedstock", "overall", "notes",
+                  "fuel_yield_t_per_t_oil", "price_per_t", "cost_per_t_fuel", "available_t",
+                  "decision", "fixable_failures", "unfixable_failures",
+                  "feedstock_cost_per_t_fuel"}
 
 
 def ranking_section(comparison) -> Section:
     """The ranked lots: verdict summaries, yield and cost; then key properties (± error)."""
     from estimator.comparison import KEY_PROPERTIES
+    from estimator.report.labels import column_label, for_readers, readable_cells
 
     r = comparison.ranked
     out = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
@@ -324,6 +323,12 @@ def ranking_section(comparison) -> Section:
     out["cost [per t fuel]"] = r["cost_per_t_fuel"]
     if "available_t" in r.columns:
         out["available [t]"] = r["available_t"]
+    # columns other jobs add to the ranking (e.g. fixable failures), shown as they come
+    shown = (*KEY_PROPERTIES, "ester_content_wt_pct")
+    props = set(shown) | {f"{p}_error" for p in shown}
+    for col in r.columns:
+        if col not in _RANKING_KNOWN and col not in props and not col.startswith("verdict_"):
+            out[column_label(col)] = readable_cells(r[col])
     body = paragraph(
         "Lots whose fuel meets every specification checked come first, then those too "
         "close to call, then those whose only failures a treatment fixes (oxidation "
@@ -339,108 +344,155 @@ def ranking_section(comparison) -> Section:
         "fuel yield [t/t oil]": ".4f", "price [per t oil]": ",.0f",
         "feedstock cost [per t fuel]": ",.0f", "cost [per t fuel]": ",.0f",
         "available [t]": ",.0f"})
-    props = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
-    for prop in (*KEY_PROPERTIES, "ester_content_wt_pct"):  # the last only when measured
+    table = pd.DataFrame({"rank": r["rank"], "lot": r["sample"]})
+    for prop in shown:  # the ester content only when measured
         if prop in r.columns:
-            props[_PROPERTY_HEADERS.get(prop, prop)] = [
+            table[column_label(prop)] = [
                 plus_minus(v, e) for v, e in zip(r[prop], r[f"{prop}_error"])]
     body += "<h3>Key properties of each lot's fuel (estimate ± stated error)</h3>"
-    body += table_html(props)
-    notes = [f"{lot}: {n}" for lot, n in zip(r["sample"], r["notes"]) if n]
+    body += table_html(table)
+    notes = [f"{lot}: {for_readers(n)}" for lot, n in zip(r["sample"], r["notes"]) if n]
     if notes:
         body += "<h3>Notes on the lots</h3>" + bullet_list(notes)
-    return Section("Ranking", body)
+    return Section("Ranking", body, group=_LOTS)
 
 
 def figures_section(plots: Sequence) -> Section:
     """Every figure (``Plot`` objects from :func:`estimator.report.plots.comparison_figures`)."""
     body = "".join(figure_html(p.figure, alt=p.caption, caption=p.caption) for p in plots)
-    return Section("Charts", body)
+    return Section("Charts", body, group=_LOTS)
+
+
+_VERDICT_KNOWN = {"sample", "spec", "property", "estimate", "error", "limit", "verdict",
+                  "bound", "unit", "method", "in_domain", "climate_class", "edition", "mark"}
 
 
 def verdicts_section(comparison) -> Section:
     """Every estimate against every limit, one row each."""
+    from estimator.report.labels import column_label, method_name, pretty_unit
+
     v = comparison.verdicts.copy()
     rank = {lot: i for i, lot in enumerate(comparison.ranked["sample"])}
     v = v.assign(_r=v["sample"].map(rank)).sort_values("_r", kind="stable")
-    v["spec"] = v["spec"].map(_spec_label)
-    cols = ["sample", "spec", "property", "bound", "limit", "estimate", "error", "unit",
-            "verdict", "method", "in_domain"]
+    units = v["unit"].astype(str).map(pretty_unit)
+    table = pd.DataFrame({
+        "lot": v["sample"].astype(str),
+        "specification": v["spec"].map(_spec_label),
+        "property": v["property"].map(lambda p: column_label(p, unit=False)),
+        "limit": [f"{b} {lim:g} {u}".strip() for b, lim, u in
+                  zip(v["bound"], v["limit"], units)],
+        "estimate": [f"{plus_minus(e, s)} {u}".strip() for e, s, u in
+                     zip(v["estimate"], v["error"], units)],
+        "verdict": v["verdict"].astype(str),
+        "method": v["method"].map(method_name),
+        "inside fitted domain": v["in_domain"].map({True: "yes", False: "NO"}),
+    })
+    for col in v.columns:
+        if col in _VERDICT_KNOWN or col.startswith("_"):
+            continue
+        values = v[col]
+        if col == "probability_meets":
+            values = values.map(lambda p: "–" if pd.isna(p) else f"{100 * float(p):.0f} %")
+        table[column_label(col)] = values.to_numpy()
     return Section("Verdict details", paragraph("Lots in ranked order.") + table_html(
-        v[cols], verdict_columns=["verdict"], formats={"limit": "g"}))
+        table, verdict_columns=["verdict"]), group=_LOTS)
 
 
 def valuation_section(comparison) -> Section:
     """Yield, by-products, reagents and cost of each lot."""
+    from estimator.report.labels import column_label
+
     val = comparison.valuation.set_index("sample")
     lots = [lot for lot in comparison.ranked["sample"] if lot in val.index]
-    table = val.loc[lots].drop(columns=["valuation_note", "pretreat"]).T
+    table = val.loc[lots].drop(columns=[c for c in ("valuation_note", "pretreat")
+                                        if c in val.columns]).T
+    table.index = [column_label(c) for c in table.index]
     table.index.name = "quantity (per tonne of oil as offered)"
     table = table.reset_index()
     how = ("acid pretreatment: FFA esterified to fuel" if comparison.pretreat == "acid"
            else "base catalysis: FFA neutralised to soap")
     return Section("Lot valuation", paragraph(
         f"Theoretical yields (complete conversion), {how}; methanol : oil molar ratio "
-        f"{comparison.methanol_ratio:g} : 1. Yields in t per t of oil, side streams in kg "
-        "per t of oil; lots in ranked order. The notes on each lot are under 'Ranking'.")
-        + table_html(table))
+        f"{comparison.methanol_ratio:g} : 1. Lots in ranked order; the notes on each lot "
+        "are under 'Ranking'.") + table_html(table), group=_LOTS)
 
 
 def assumptions_section(comparison) -> Section:
     """Every assumption of the valuation with its value and basis."""
-    return Section("Assumptions", table_html(comparison.assumptions))
+    return Section("Assumptions", table_html(_readable_frame(comparison.assumptions)),
+                   group=_LOTS)
+
+
+def _stated_error(text: str) -> str:
+    kind, _, value = str(text).partition(" ")
+    words = {"aad_pct": ("average absolute deviation", " %"), "rmse": ("RMSE", ""),
+             "r2": ("R²", ""), "sd": ("standard deviation", "")}
+    if kind in words and value:
+        name, unit = words[kind]
+        return f"{name} {value}{unit}"
+    return str(text)
 
 
 def methods_section(comparison) -> Section:
     """Methods and citations used for the estimates."""
+    from estimator.report.labels import column_label, for_readers, mark_text, method_name
+
     m = comparison.methods
     table = pd.DataFrame({
-        "property": m["property"],
-        "method": m["method"],
-        "unit": m["unit"],
-        "stated error": m["stated_error"],
-        "mark": m["provenance"],
+        "property": m["property"].map(lambda p: column_label(p, unit=False)),
+        "method": m["method"].map(method_name),
+        "stated error": m["stated_error"].map(_stated_error),
+        "how sure": m["provenance"].map(mark_text),
         "citation, fitted domain and note": [
-            f"{c}. Fitted domain: {d}. {n}" for c, d, n in
+            for_readers(f"{c}. Fitted domain: {d}. {n}") for c, d, n in
             zip(m["citation"], m["fitted_domain"], m["note"])],
     })
     return Section("Methods and citations", paragraph(
-        "The default method of each property in the registry. The stated error is the "
-        "published one where there is one; otherwise the estimates use the spread of the "
-        "property's methods or the fallback named in the note.") + table_html(table))
+        "The default method of each property. The stated error is the published one where "
+        "there is one; otherwise the estimates use the spread of the property's methods or "
+        "the fallback named in the note.") + table_html(table), group=_REFERENCE)
 
 
 def flags_section(comparison) -> Section:
     """Estimates outside their method's fitted domain."""
+    from estimator.report.labels import column_label, for_readers, method_name
+
     flags = comparison.flags
     if flags.empty:
         return Section("Out-of-domain flags", paragraph(
-            "Every estimate lies inside its method's fitted domain."))
+            "Every estimate lies inside its method's fitted domain."), group=_REFERENCE)
+    table = pd.DataFrame({
+        "lot": flags["sample"].astype(str),
+        "property": flags["property"].map(lambda p: column_label(p, unit=False)),
+        "method": flags["method"].map(method_name),
+        "why": flags["reason"].map(for_readers),
+    })
     return Section("Out-of-domain flags", paragraph(
         "These estimates lie outside the composition range their method was fitted on; "
-        "they are reported, not clamped, and deserve extra doubt.") + table_html(flags))
+        "they are reported, not clamped, and deserve extra doubt.") + table_html(table),
+        group=_REFERENCE)
 
 
 def limits_section(comparison) -> Section:
-    """The specification limits applied, with edition, test method, mark and source."""
+    """The specification limits applied, with edition, test method and how sure we are."""
+    from estimator.report.labels import column_label, for_readers, mark_text, pretty_unit
+
     lim = comparison.limits
     table = pd.DataFrame({
-        "spec": lim["spec"].map(_spec_label),
-        "property": lim["property"],
+        "specification": lim["spec"].map(_spec_label),
+        "property": lim["property"].map(lambda p: column_label(p, unit=False)),
         "climate class": lim["climate_class"].fillna(""),
-        "bound": lim["bound"],
-        "limit": lim["limit"],
-        "unit": lim["unit"],
-        "mark": lim["mark"],
-        "edition, test method and source": [
-            f"{e}; {t}; {s.replace('shared/reference/', '')}" for e, t, s in
+        "limit": [f"{b} {v:g} {pretty_unit(str(u))}".strip() for b, v, u in
+                  zip(lim["bound"], lim["limit"], lim["unit"])],
+        "how sure": lim["mark"].map(lambda m: mark_text(m, source="standard")),
+        "edition, test method and note": [
+            for_readers(f"{e}; {t}; {s}") for e, t, s in
             zip(lim["edition"], lim["test_method"], lim["source"])],
     })
     return Section("Specification limits", paragraph(
-        "MEMORY marks a number recalled, not seen in a source; check it before relying "
-        "on it. Sources are the project's research notes on the standards (standards.md), "
-        "which cite the public reproductions [S1]...") + table_html(
-            table, formats={"limit": "g"}))
+        "Limits as applied. 'Recalled, not yet checked against the standard' marks a "
+        "number taken from memory of the standard: check it against your copy before "
+        "relying on it.") + table_html(table), group=_REFERENCE)
 
 
 def cautions_section(comparison) -> Section:
@@ -453,7 +505,7 @@ def cautions_section(comparison) -> Section:
         "them.",
         "The lot data (prices, FFA, water) are taken as given.",
     ]
-    return Section("Cautions", bullet_list(items))
+    return Section("Cautions", bullet_list(items), group="Cautions")
 
 
 def comparison_sections(comparison, plots: Sequence | None = None) -> list[Section]:
@@ -494,13 +546,18 @@ def write_comparison(
     plots: Sequence | None = None,
     extra_sections: Sequence[Section] = (),
     title: str = "Offered lots compared",
+    summary: Section | None = None,
+    svg: bool = False,
 ) -> dict:
     """Write the whole comparison into ``outdir``; return ``{what: path or [paths]}``.
 
     ``comparison.csv`` (ranked table), ``comparison.xlsx`` (ranked table plus sheets
     verdicts, valuation, assumptions, methods, limits, flags, cautions), each figure as
-    ``plots/<name>.png`` and ``.svg``, and the self-contained ``report.html``, with
-    ``extra_sections`` (e.g. blend, mix or refit sections) after the charts.
+    ``plots/<name>.png`` (and ``.svg`` with ``svg=True``), and the self-contained
+    ``report.html``: ``summary`` (default: the lots' decisions) first, then the lots'
+    details, ``extra_sections`` (e.g. mix, blend or refit sections), the methods and
+    limits, and the cautions. Each figure is drawn once; the report embeds the PNG
+    written to ``plots/``.
     """
     from estimator.cautions import CAUTION_SHORT
     from estimator.comparison import SPEC_LABELS
@@ -527,12 +584,14 @@ def write_comparison(
         "cautions": pd.DataFrame({"caution": [CAUTION]}),
     }
     written["xlsx"] = write_table(comparison.ranked, outdir / "comparison.xlsx", sheets=sheets)
-    written["plots"] = [path for p in plots for path in save_figure(p.figure,
-                                                                      outdir / "plots" / p.name)]
+    written["plots"] = [path for p in plots for path in save_figure(
+        p.figure, outdir / "plots" / p.name, svg=svg)]
     specs_text = ", ".join(SPEC_LABELS.get(s, s) for s in comparison.specs)
     sections = comparison_sections(comparison, plots)
-    # after the summary, ranking and charts; the detailed tables and the cautions follow
-    sections[3:3] = list(extra_sections)
+    if summary is not None:
+        sections[0] = summary
+    # after the lots' details (ranking to assumptions); methods, limits and cautions follow
+    sections[6:6] = list(extra_sections)
     written["report"] = build_report(
         title, sections,
         outdir / "report.html",

@@ -32,6 +32,8 @@ __all__ = [
     "comparison_figures",
     "composition_bars",
     "cost_per_tonne",
+    "PNG_DPI",
+    "figure_png",
     "figure_png_base64",
     "plain_text",
     "pretty_unit",
@@ -330,7 +332,7 @@ def _place_labels(ax, xs: np.ndarray, ys: np.ndarray, labels: Sequence[str]) -> 
         from matplotlib.backends.backend_agg import FigureCanvasAgg
 
         FigureCanvasAgg(fig)
-    fig.canvas.draw()  # fixes the layout and the transforms
+    fig.draw_without_rendering()  # fixes the layout and the transforms, paints nothing
     renderer = fig.canvas.get_renderer()
     placed: list = []
     axes_box = ax.get_window_extent(renderer)
@@ -497,23 +499,65 @@ def plain_text(fig) -> None:
         text.set_parse_math(False)
 
 
-def save_figure(fig, stem: str | Path, *, dpi: int = 150) -> list[Path]:
-    """Write ``stem.png`` and ``stem.svg`` atomically; return both paths."""
-    import matplotlib
+#: Resolution of every PNG the reports write or embed (one rendering serves both).
+PNG_DPI = 130
 
+
+def figure_png(fig, *, dpi: int = PNG_DPI) -> bytes:
+    """The figure as PNG bytes, drawn once per resolution and kept on the figure.
+
+    The report embeds the same bytes it writes to ``plots/``, so each figure is
+    rasterised once however many places show it.
+    """
+    cache = fig.__dict__.setdefault("_fame_png", {})
+    if dpi not in cache:
+        cache[dpi] = _render_png(fig, dpi)
+    return cache[dpi]
+
+
+def _render_png(fig, dpi: int) -> bytes:
+    """One Agg draw at ``dpi`` (layout included), encoded by Pillow.
+
+    ``savefig`` would draw twice (a layout pass, then the picture); one draw gives
+    the same pixels.
+    """
+    import matplotlib
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from PIL import Image
+
+    plain_text(fig)
+    canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
+    original = fig.dpi
+    try:
+        fig.set_dpi(dpi)
+        with matplotlib.rc_context({"text.parse_math": False}):
+            canvas.draw()
+        width, height = canvas.get_width_height(physical=True)
+        image = Image.frombuffer("RGBA", (width, height), canvas.buffer_rgba(), "raw",
+                                 "RGBA", 0, 1)
+        buffer = io.BytesIO()
+        image.save(buffer, format="png", dpi=(dpi, dpi), compress_level=3)
+    finally:
+        fig.set_dpi(original)
+    return buffer.getvalue()
+
+
+def save_figure(fig, stem: str | Path, *, dpi: int = PNG_DPI, svg: bool = False) -> list[Path]:
+    """Write ``stem.png`` (and ``stem.svg`` when asked) atomically; return the paths."""
     from estimator.files import atomic_write
 
     stem = Path(stem)
-    plain_text(fig)
-    paths = []
-    for fmt in ("png", "svg"):
-        path = stem.with_suffix(f".{fmt}")
+    data = figure_png(fig, dpi=dpi)
+    paths = [atomic_write(stem.with_suffix(".png"), lambda tmp: tmp.write_bytes(data))]
+    if svg:
+        import matplotlib
 
-        def write(tmp: Path, fmt: str = fmt) -> None:
+        def write(tmp: Path) -> None:
             with matplotlib.rc_context({"svg.fonttype": "none", "text.parse_math": False}):
-                fig.savefig(tmp, format=fmt, dpi=dpi, metadata=_metadata(fmt))
+                # no timestamp, so the same data give the same file
+                fig.savefig(tmp, format="svg", metadata={"Date": None})
 
-        paths.append(atomic_write(path, write))
+        paths.append(atomic_write(stem.with_suffix(".svg"), write))
     return paths
 
 
@@ -532,20 +576,9 @@ def save_png(fig, path: str | Path, *, dpi: int = 150) -> Path:
     return atomic_write(path, write)
 
 
-def _metadata(fmt: str) -> dict:
-    # No timestamps, so the same data give the same files.
-    return {"Date": None} if fmt == "svg" else {}
-
-
-def figure_png_base64(fig, *, dpi: int = 110) -> str:
+def figure_png_base64(fig, *, dpi: int = PNG_DPI) -> str:
     """The figure as a base64-encoded PNG, for embedding in an HTML report."""
-    import matplotlib
-
-    buffer = io.BytesIO()
-    plain_text(fig)
-    with matplotlib.rc_context({"text.parse_math": False}):
-        fig.savefig(buffer, format="png", dpi=dpi)
-    return base64.b64encode(buffer.getvalue()).decode("ascii")
+    return base64.b64encode(figure_png(fig, dpi=dpi)).decode("ascii")
 
 
 # ------------------------------------------------------------ the buyer's comparison
@@ -608,6 +641,16 @@ def _in_domain(estimates: pd.DataFrame, lots: Sequence[str], props: Sequence[str
     return [bool(inside.get(lot, True)) for lot in lots]
 
 
+def _limiting_specs(limits: pd.DataFrame, prop: str) -> str:
+    """The specifications that limit ``prop``, as printed (only those, none other)."""
+    from estimator.comparison import SPEC_LABELS
+
+    specs = dict.fromkeys(limits.loc[limits["property"] == prop, "spec"])
+    names = [SPEC_LABELS.get(s, s) for s in specs]
+    return " and ".join(names) if len(names) <= 2 else ", ".join(names[:-1]) + " and " + \
+        names[-1]
+
+
 def comparison_figures(comparison) -> list[Plot]:
     """Every figure of the buyer's comparison, lots in ranked order.
 
@@ -615,7 +658,6 @@ def comparison_figures(comparison) -> list[Plot]:
     are zero in every lot), the stacked compositions, the cold-flow / stability map
     and the cost per tonne of fuel.
     """
-    from estimator.comparison import SPEC_LABELS
     from estimator.report.subset import subset_comparison
 
     comparison, shown_note = subset_comparison(comparison)  # many lots: a readable subset
@@ -623,7 +665,6 @@ def comparison_figures(comparison) -> list[Plot]:
     lots = list(ranked["sample"])
     lim = comparison.limits
     verdicts = comparison.verdicts
-    spec_text = " and ".join(SPEC_LABELS.get(s, s) for s in comparison.specs)
     plots: list[Plot] = []
     units = dict(zip(lim["property"], lim["unit"]))
     for prop in _CHARTED:
@@ -646,7 +687,7 @@ def comparison_figures(comparison) -> list[Plot]:
             f"{_AXIS_NAMES[prop][0].upper()}{_AXIS_NAMES[prop][1:]} of each lot's fuel "
             + ("(read from the profile: exact)" if exact else
                "(estimate; bars: the method's stated error)")
-            + f" against the {spec_text} limits.",
+            + f" against the {_limiting_specs(lim, prop)} limits.",
         ))
     comp = comparison.profile.composition.loc[lots]
     plots.append(Plot("composition", composition_bars(comp),

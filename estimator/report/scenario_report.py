@@ -19,12 +19,20 @@ from estimator.report.html import Section, bullet_list, paragraph, table_html
 __all__ = ["lab_section", "scenario_outputs", "write_scenario"]
 
 
-def write_scenario(result, outdir: str | Path) -> dict:
-    """Write all outputs of a :class:`~estimator.scenario.ScenarioResult` into ``outdir``."""
+def write_scenario(result, outdir: str | Path, *, svg: bool = False) -> dict:
+    """Write all outputs of a :class:`~estimator.scenario.ScenarioResult` into ``outdir``.
+
+    The report opens with the one-page summary of the decisions; the details follow
+    in the same order (lots, mix, blend, lab model). Each figure is drawn once and
+    written as PNG (``svg=True`` adds SVG copies).
+    """
+    from dataclasses import replace
+
     from estimator.cautions import CAUTION
     from estimator.files import check_outputs, write_table
     from estimator.report.html import write_comparison
     from estimator.report.plots import save_figure
+    from estimator.report.summary import decision_summary
 
     outdir = Path(outdir)
     files, folders = scenario_outputs(result, outdir)
@@ -33,6 +41,18 @@ def write_scenario(result, outdir: str | Path) -> dict:
     written: dict = {}
     extra: list[Section] = []
     cautions = pd.DataFrame({"caution": [CAUTION]})
+    if result.mix is not None:
+        from estimator.report.blend_plots import mix_shares
+        from estimator.report.blend_sections import mix_sections
+
+        m = result.mix
+        fig = mix_shares(m)
+        written["mix_plot"] = save_figure(fig, outdir / "plots" / "mix_shares", svg=svg)
+        main = m.lots if m.feasible else (m.diagnosis if m.diagnosis is not None
+                                          else m.constraints)
+        written["mix"] = write_table(main, outdir / "mix.xlsx", sheet_name="mix",
+                                     sheets={"limits": m.constraints, "cautions": cautions})
+        extra += [replace(s, group="Least-cost mix") for s in mix_sections(m, figure=fig)]
     if result.blend is not None:
         from estimator.report.blend_plots import blend_curves
         from estimator.report.blend_sections import blend_sections
@@ -40,30 +60,22 @@ def write_scenario(result, outdir: str | Path) -> dict:
         b = result.blend
         fig = blend_curves(b["curve"], targets=b["targets"], diesel_name=b["diesel"].name,
                            highest=b["highest"])
-        written["blend_plot"] = save_figure(fig, outdir / "plots" / "blend_curves")
+        written["blend_plot"] = save_figure(fig, outdir / "plots" / "blend_curves", svg=svg)
         sheets = {"cautions": cautions}
         if b["highest"] is not None:
             sheets = {"highest_levels": b["highest"], **sheets}
         written["blend"] = write_table(b["wide"], outdir / "blend.xlsx", sheets=sheets,
                                        sheet_name="blend")
-        extra += blend_sections(b["wide"], b["highest"], b["diesel"], figure=fig,
-                                levels=b["grid"])
-    if result.mix is not None:
-        from estimator.report.blend_plots import mix_shares
-        from estimator.report.blend_sections import mix_sections
-
-        m = result.mix
-        fig = mix_shares(m)
-        written["mix_plot"] = save_figure(fig, outdir / "plots" / "mix_shares")
-        main = m.lots if m.feasible else (m.diagnosis if m.diagnosis is not None
-                                          else m.constraints)
-        written["mix"] = write_table(main, outdir / "mix.xlsx", sheet_name="mix",
-                                     sheets={"limits": m.constraints, "cautions": cautions})
-        extra += mix_sections(m, figure=fig)
+        extra += [replace(s, group="Blending with diesel") for s in blend_sections(
+            b["wide"], b["highest"], b["diesel"], figure=fig, levels=b["grid"])]
+    lab_long = None
     if result.fits:
-        extra.append(_write_lab(result, outdir, written))
+        section, lab_long = _write_lab(result, outdir, written, svg=svg)
+        extra.append(section)
+    summary = decision_summary(result.comparison, mix=result.mix, blend=result.blend,
+                               fits=result.fits, lab_long=lab_long)
     written.update(write_comparison(result.comparison, outdir, extra_sections=extra,
-                                    title=result.scenario.title))
+                                    title=result.scenario.title, summary=summary, svg=svg))
     return written
 
 
@@ -85,7 +97,7 @@ def scenario_outputs(result, outdir: str | Path) -> tuple[list[Path], list[Path]
     return files, folders
 
 
-def _write_lab(result, outdir: Path, written: dict) -> Section:
+def _write_lab(result, outdir: Path, written: dict, *, svg: bool = False):
     from estimator.files import write_table
     from estimator.refit import file_provenance, save_models
     from estimator.report.fit_sections import write_fit_report
@@ -101,34 +113,39 @@ def _write_lab(result, outdir: Path, written: dict) -> Section:
     if "feedstock" in lab.metadata.columns:
         groups = dict(zip(lab.samples, lab.metadata["feedstock"].astype(str), strict=True))
     folder = write_fit_report(result.fits, model_path, table=scores, groups=groups,
-                              source=lab_path.name)
+                              source=lab_path.name, svg=svg)
     written["fit_report"] = folder / "report.html"
     with_model = predict(result.profile, models=[str(model_path)])
     written["estimates_with_model"] = write_table(
         with_model.wide, outdir / "estimates_with_lab_model.csv"
     )
-    return lab_section(result, with_model.long, f"{folder.name}/report.html")
+    long = with_model.long
+    return lab_section(result, long, f"{folder.name}/report.html"), long
 
 
 def lab_section(result, long: pd.DataFrame, fit_report_href: str) -> Section:
     """The refit summary: one statement per property, the lots by the lab's models, a link."""
+    from estimator.report.labels import candidate_name, column_label, for_readers, plus_minus
+
     fitted = long[long["method"].astype(str).str.startswith("fit:")].copy()
     lots = pd.DataFrame({
         "lot": fitted["sample"].astype(str),
-        "property": fitted["property"].astype(str),
-        "model": fitted["method"].astype(str).str.removeprefix("fit:"),
-        "estimate": fitted["value"],
-        "95 % interval ±": fitted["error"],
+        "property": fitted["property"].astype(str).map(lambda p: column_label(p, unit=False)),
+        "lab's model": fitted["method"].astype(str).str.removeprefix("fit:").map(
+            candidate_name),
+        "estimate ± 95 % interval": [plus_minus(v, e) for v, e in
+                                     zip(fitted["value"], fitted["error"])],
         "inside the lab's training range": fitted["in_domain"].map({True: "yes", False: "NO"}),
     })
     lab = result.scenario.lab
+    names = ", ".join(column_label(p, unit=False) for p in lab["properties"])
     body = paragraph(
-        f"The lab file {html.escape(str(lab['file']))} was used to refit "
-        f"{', '.join(html.escape(p) for p in lab['properties'])}, comparing every published "
-        "method (as is and recalibrated), ridge and PLS regressions and a Gaussian process "
-        "by cross-validation. What the comparison found:"
+        f"The lab file {lab['file']} was used to refit {names}, comparing every published "
+        "method (as is and recalibrated), ridge and partial-least-squares regressions and "
+        "a Gaussian process on samples held out of each fit. What the comparison found:"
     )
-    body += bullet_list(html.escape(f.statement) for f in result.fits)
+    body += bullet_list(f"{column_label(f.property, unit=False)}: {for_readers(f.statement)}"
+                        for f in result.fits)
     body += (
         f'<p>Scores, parity and residual plots: <a href="{html.escape(fit_report_href)}">the '
         "fit report</a>. The offered lots estimated with the lab&#x27;s models (a lot outside "
@@ -138,5 +155,6 @@ def lab_section(result, long: pd.DataFrame, fit_report_href: str) -> Section:
            "The specification verdicts above use the published methods, not these "
            "models:</p>")
     )
-    body += table_html(lots, digits=4)
-    return Section("Refit on the lab's own samples", body, id="refit")
+    body += table_html(lots)
+    return Section("Refit on the lab's own samples", body, id="refit",
+                   group="The lab's own model")

@@ -7,13 +7,15 @@ older imports keep working; new code imports them from :mod:`estimator.files`.
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 import pandas as pd
 
 from estimator.files import TABLE_SUFFIXES, atomic_write, write_table
 
-__all__ = ["TABLE_SUFFIXES", "atomic_write", "format_table", "plus_minus", "write_table"]
+__all__ = ["TABLE_SUFFIXES", "atomic_write", "format_columns", "format_table", "plus_minus",
+           "write_table"]
 
 
 def _fmt(value: object, digits: int = 4) -> str:
@@ -63,23 +65,73 @@ def format_table(frame: pd.DataFrame, *, transpose: bool | None = None, digits: 
 
 
 def _looks_numeric(text: str) -> bool:
-    t = text.replace("±", "").replace(" ", "")
+    t = text.split("±")[0].strip()
     try:
-        float(t.split("±")[0]) if t not in ("-", "") else 0.0
+        float(t) if t not in ("-", "–", "") else 0.0
     except ValueError:
         return False
     return True
 
 
-def plus_minus(values: pd.Series, errors: pd.Series, digits: int = 3) -> pd.Series:
-    """Cells 'value ± error' with the value rounded to the error's first significant digit."""
-    out = []
-    for v, e in zip(values.to_numpy(dtype=float), errors.to_numpy(dtype=float), strict=True):
-        if math.isnan(v):
-            out.append("-")
-        elif math.isnan(e) or e <= 0:
-            out.append(_fmt(v, digits + 1))
-        else:
-            decimals = max(0, 1 - int(math.floor(math.log10(e))))
-            out.append(f"{v:.{decimals}f} ± {e:.{decimals}f}")
+def plus_minus(values: pd.Series, errors: pd.Series, digits: int = 4) -> pd.Series:
+    """Cells 'value ± error' (see :func:`estimator.report.labels.plus_minus`)."""
+    from estimator.report.labels import plus_minus as pm
+
+    out = [pm(v, e, missing="-", digits=digits) for v, e in
+           zip(values.to_numpy(dtype=float), errors.to_numpy(dtype=float), strict=True)]
     return pd.Series(out, index=values.index, dtype=object)
+
+
+def format_columns(frame: pd.DataFrame, *, width: int = 100, digits: int = 4) -> str:
+    """One row per record, columns side by side, wrapped into blocks to fit ``width``.
+
+    Long headers wrap onto several lines at word boundaries; when the columns do not
+    fit the width, they continue in further blocks below, each repeating the first
+    (identifying) column. Numbers are right-aligned.
+    """
+    import textwrap
+
+    if frame.empty:
+        return "(no rows)"
+    cells = frame.map(lambda v: _fmt(v, digits))
+    cols = list(cells.columns)
+    widths, heads = [], []
+    for col in cols:
+        values = cells[col].tolist()
+        longest_word = max((len(w) for w in str(col).split()), default=1)
+        w = max([len(v) for v in values] + [longest_word, min(len(str(col)), 12)])
+        widths.append(w)
+        # a unit in brackets stays on one line
+        glued = re.sub(r"\[[^\]]*\]", lambda m: m.group(0).replace(" ", "\u00a0"), str(col))
+        w = max(w, *(len(x) for x in glued.split(" ")))
+        widths[-1] = w
+        heads.append([h.replace("\u00a0", " ") for h in textwrap.wrap(glued, w)] or [""])
+    numeric = [all(_looks_numeric(v) for v in cells[c]) for c in cols]
+    first, rest = 0, list(range(1, len(cols)))
+    blocks: list[list[int]] = []
+    while rest:
+        used, block = widths[first], []
+        while rest and (not block or used + 2 + widths[rest[0]] <= width):
+            used += 2 + widths[rest[0]]
+            block.append(rest.pop(0))
+        blocks.append(block)
+    if not blocks:
+        blocks = [[]]
+    out = []
+    for block in blocks:
+        idx = [first, *block]
+        depth = max(len(heads[i]) for i in idx)
+        for line in range(depth):
+            parts = []
+            for i in idx:
+                pad = depth - len(heads[i])  # headers sit on the rule
+                text = heads[i][line - pad] if line >= pad else ""
+                parts.append(text.rjust(widths[i]) if numeric[i] else text.ljust(widths[i]))
+            out.append("  ".join(parts).rstrip())
+        out.append("  ".join("-" * widths[i] for i in idx))
+        for r in range(len(cells)):
+            parts = [cells.iat[r, i].rjust(widths[i]) if numeric[i] else
+                     cells.iat[r, i].ljust(widths[i]) for i in idx]
+            out.append("  ".join(parts).rstrip())
+        out.append("")
+    return "\n".join(out).rstrip()

@@ -119,11 +119,3 @@ def test_mix_shares_marks_missed_limits_of_an_infeasible_case():
     labels = [t.get_text() for t in fig.legends[0].get_texts()]
     assert "missed" in labels
     assert fig._suptitle.get_text() == "No mix meets every limit: least-violating mix"
-
-
-def test_blend_report_cells_never_print_minus_zero():
-    # found by review: tallow B20 cloud point printed as "-0.0 ± 5.5"; no signed zero
-    # (common practice)
-    from estimator.report.blend_sections import _pm_column
-
-    assert _pm_column([-0.04, 2.26], [5.5, 0.0], 1) == ["0.0 ± 5.5", "2.3"]

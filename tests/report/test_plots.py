@@ -120,9 +120,10 @@ def test_a_plot_draws_into_a_given_axes():
     assert out is fig and len(ax.patches) == 1
 
 
-def test_save_figure_writes_png_and_svg(tmp_path):
+def test_save_figure_writes_png_and_svg_only_on_request(tmp_path):
     fig = plots.cost_per_tonne(["a"], [800.0])
-    png, svg = plots.save_figure(fig, tmp_path / "cost")
+    assert [p.suffix for p in plots.save_figure(fig, tmp_path / "only")] == [".png"]
+    png, svg = plots.save_figure(fig, tmp_path / "cost", svg=True)
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert "<svg" in svg.read_text(encoding="utf-8")
 

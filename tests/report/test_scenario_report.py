@@ -17,24 +17,32 @@ class _Collect(HTMLParser):
     def __init__(self):
         super().__init__()
         self.h2, self.links, self.images, self._in_h2 = [], [], 0, False
+        self.folds, self._in_fold = [], False
 
     def handle_starttag(self, tag, attrs):
         attrs = dict(attrs)
-        if tag == "h2":
+        if tag in ("h2", "h3"):
             self._in_h2 = True
             self.h2.append("")
+        if tag == "summary":
+            self._in_fold = True
+            self.folds.append("")
         if tag == "a" and attrs.get("href"):
             self.links.append(attrs["href"])
         if tag == "img" and str(attrs.get("src", "")).startswith("data:image/png;base64,"):
             self.images += 1
 
     def handle_endtag(self, tag):
-        if tag == "h2":
+        if tag in ("h2", "h3"):
             self._in_h2 = False
+        if tag == "summary":
+            self._in_fold = False
 
     def handle_data(self, data):
         if self._in_h2:
             self.h2[-1] += data
+        if self._in_fold and not self.folds[-1]:
+            self.folds[-1] += data
 
 
 def test_report_command_writes_one_report_with_every_part(tmp_path):
@@ -58,7 +66,14 @@ def test_report_command_writes_one_report_with_every_part(tmp_path):
     parser.feed((out / "report.html").read_text(encoding="utf-8"))
     assert {"Ranking", "Blend curves", "Lots and shares", "Refit on the lab's own samples",
             "Cautions"} <= set(parser.h2)
-    assert parser.h2.index("Blend curves") < parser.h2.index("Verdict details")
+    # the summary first, then the details folded in the order of its decisions
+    assert parser.h2[:6] == ["Summary", "Lots, best first", "Least-cost mix",
+                             "Highest blend level per target", "What the lab's model changed",
+                             "Cautions"]
+    assert [f.strip() for f in parser.folds] == [
+        "Lots: ranking, verdicts and costs", "Least-cost mix", "Blending with diesel",
+        "The lab's own model", "Methods, limits and sources", "Cautions"]
+    assert not list((out / "plots").glob("*.svg"))  # SVG copies only with --svg
     assert "lab_model_fit_report/report.html" in parser.links
     assert parser.images >= 6
     assert "Estimates, not certification" in result.output
