@@ -246,8 +246,21 @@ def _imahara_fast(w: np.ndarray) -> np.ndarray:
 
 
 def _park_form(model: _Model, c: Constraint):
-    """Park 2008 OS = A/X + B as a linear bound on X = C18:2 + C18:3 (None if not Park)."""
+    """Park 2008 OS = A/X + B as a linear bound on X = C18:2 + C18:3 (None if not Park).
+
+    The bis-allylic form on Park's scale, OS = A/Y with Y = sum r_i A_i, is the same
+    shape with B = 0 and the oxidizability weights r_i in place of the 0/1 row.
+    """
     m = model.method(c.property)
+    if m is not None and m.name == "park2008_bape":
+        from estimator.properties.stability import PARK2008_BAPE_A, oxidizability_weights
+
+        row = oxidizability_weights()
+        label = "Y = bis-allylic oxidizability (on Park 2008's scale)"
+        if c.limit <= 0:
+            return (row, np.inf, label) if c.kind == "min" else (row, -np.inf, label)
+        bound = PARK2008_BAPE_A / c.limit
+        return (row, bound, label) if c.kind == "min" else (-row, -bound, label)
     if m is None or m.name != "park2008":
         return None
     from estimator.properties.stability import PARK2008_A, PARK2008_B

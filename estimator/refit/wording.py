@@ -26,6 +26,8 @@ NAMED_METHODS = {
     "stoichiometric": "stoichiometric iodine value",
     "aocs_cd1c85": "AOCS Cd 1c-85",
     "from_cloud_point": "CFPP from the cloud point",
+    "park2008_bape": "bis-allylic oxidizability on the scale of Park et al. 2008",
+    "sarin2009_from_cloud_point": "Sarin et al. 2009 pour point from the cloud point",
 }
 
 _AUTHOR = re.compile(r"^\s*([^\W\d][\w'’\-]*(?: [a-z]{1,3})?(?: [^\W\d][\w'’\-]+)?)"

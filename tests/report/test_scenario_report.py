@@ -89,7 +89,8 @@ def test_report_takes_a_lab_model_and_says_which_properties_came_from_it(tmp_pat
     # an invented lab whose Rancimat times are all about 2 h (synthetic, for the test)
     base = Profile.from_oils(["rapeseed", "soybean", "palm", "beef-tallow", "sunflower"])
     rng = np.random.default_rng(1)
-    w = base.wt_pct[rng.integers(0, len(base), 20)] * np.exp(rng.normal(0, 0.15, (20, 30)))
+    n_species = base.wt_pct.shape[1]
+    w = base.wt_pct[rng.integers(0, len(base), 20)] * np.exp(rng.normal(0, 0.15, (20, n_species)))
     w = 100.0 * w / w.sum(axis=1, keepdims=True)
     ids = [f"L{i}" for i in range(20)]
     lab = Profile.from_frame(
