@@ -27,7 +27,9 @@ __all__ = ["INFEASIBLE_EXIT_CODE", "blend", "mix"]
 #: Exit status of ``mix`` when no mix of the lots meets every limit.
 INFEASIBLE_EXIT_CODE = 1
 #: Default of ``mix --margin``: stated errors ("bands") the mix must stay inside each limit.
-DEFAULT_MARGIN_BANDS = 1.0
+#: 1.3 is just beyond the 1.28 standard uncertainties at which a verdict turns from
+#: "too close to call" to "meets" (probability 0.9, :data:`estimator.specs.MEETS_AT`).
+DEFAULT_MARGIN_BANDS = 1.3
 DEFAULT_LEVELS = "0,2,5,7,10,20,30,50,100"
 
 
@@ -320,9 +322,10 @@ def mix(input_file, basis, sum_tolerance, spec, max_cfpp, max_cloud_point, clima
     ideal-solubility cloud point as one bound per saturated ester) go into a linear
     programme; nonlinear ones (e.g. a --method override such as
     cfpp_C=from_cloud_point) are checked on its answer and refined with SLSQP.
-    Shares are of the fuel's mass. By default the mix keeps one stated error
-    (--margin 1) inside every limit, so that its own verdict is not 'too close to
-    call'; the limits table shows each limit's headroom in stated errors.
+    Shares are of the fuel's mass. By default the mix keeps 1.3 stated errors
+    (--margin 1.3) inside every limit, so that its own verdict is 'meets' (a chance
+    of at least 0.9 of meeting each limit) rather than 'too close to call'; the
+    limits table shows each limit's headroom in stated errors.
     When no mix meets every limit, an infeasibility report names the limits that
     conflict and how far the best mix misses each, and the exit status is 1.
 

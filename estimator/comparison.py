@@ -307,7 +307,7 @@ def _decisions(verdicts: pd.DataFrame, samples: Sequence[str],
     v = verdicts.assign(_bands=_bands_out(verdicts))
     fixable = v["property"].isin(list(FIXABLE_BY_TREATMENT)).to_numpy()
     fails = (v["verdict"] == "fails").to_numpy()
-    doubtful = fails | v["verdict"].isin(["too close to call", "outside method range"]).to_numpy()
+    doubtful = fails | (v["verdict"] == "too close to call").to_numpy()
     has_p = "probability_meets" in v.columns
     rows = []
     for sample in samples:

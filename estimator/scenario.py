@@ -33,7 +33,7 @@ comparison and the mix. ``model`` makes lab models drive the decisions: their
 properties replace the published estimates in the comparison's verdicts and
 ranking, the blend and the mix; ``"lab"`` uses the models the ``lab`` part fits
 (which then runs first). ``mix`` also takes ``margin_bands`` (see
-:func:`estimator.mixing.least_cost_mix`; default 1).
+:func:`estimator.mixing.least_cost_mix`; default 1.3).
 
 Nothing here prints or draws; :mod:`estimator.report.scenario_report` writes the files.
 """
@@ -392,7 +392,7 @@ def _run_mix(scenario: Scenario, profile, models=(), costs=None):
         profile, constraints, demand_t=spec.get("demand_t"),
         available_column=spec.get("available_column"), pretreat=spec.get("pretreat", "none"),
         spec=name, climate_class=climate_class,
-        margin_bands=float(spec.get("margin_bands", 1.0)), models=models, costs=costs,
+        margin_bands=float(spec.get("margin_bands", 1.3)), models=models, costs=costs,
     )
 
 

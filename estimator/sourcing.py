@@ -513,8 +513,8 @@ def assumptions(
         ("missing FFA or water", "taken as 0, with a note on the lot",
          "the yield is then an upper bound"),
         ("cost per tonne of fuel",
-         "(price_per_t + methanol + catalyst + acid pretreatment - glycerol credit, each per "
-         "t of oil) / fuel_yield_t_per_t_oil; plus the antioxidant dose for lots that need it",
+         "(oil price + methanol + catalyst + acid pretreatment - glycerol credit, each per "
+         "t of oil) / fuel yield [t/t oil]; plus the antioxidant dose for lots that need it",
          "energy, labour and capital are not counted"),
         ("methanol bought", "consumed + (1 - recovered share) x excess charged",
          "a higher methanol ratio charges more excess, so it costs more"),
@@ -524,6 +524,7 @@ def assumptions(
     costs = DEFAULT_COSTS if costs is None else costs
     for key, (meaning, _default, basis) in COST_KEYS.items():
         given = key in costs.given
-        rows.append((f"{key}: {meaning}", f"{getattr(costs, key):g}",
+        # the costs-file key itself is listed in the README and the docstring above
+        rows.append((meaning, f"{getattr(costs, key):g}",
                      f"from {costs.source}" if given else f"default; {basis}"))
     return pd.DataFrame(rows, columns=["assumption", "value", "basis"])

@@ -29,7 +29,9 @@ given in the column ``probability_meets`` (1 or 0 without a band). The verdict:
   the other);
 * ``outside method range`` for an estimate outside its method's fitted domain:
   such a number must not decide as if it were inside. It is never ``meets``, and
-  its ``probability_meets`` is left empty (NaN): the estimate gives no probability.
+  its ``probability_meets`` is left empty (NaN). Only where even its widened band
+  (see :mod:`estimator.properties.uncertainty`) leaves ``p <= 0.1`` is it ``fails``
+  (a tallow CFPP of +25 °C against a -5 °C limit fails whatever the method's range).
 
 Properties the composition fixes exactly (linolenic acid methyl ester and the
 esters with four or more double bonds, which EN 14214 limits on the GC result)
@@ -371,9 +373,10 @@ def check(
     is_min = merged["bound"].to_numpy() == "min"
     inside = merged["in_domain"].astype(bool).to_numpy() | exact
     # outside the method's range the estimate gives no probability (NaN, printed blank)
-    merged["probability_meets"] = np.where(
-        inside, probability_meets(value, error, limit, is_min), np.nan)
     merged["verdict"] = _verdicts(value, error, limit, is_min, inside)
+    merged["probability_meets"] = np.where(
+        merged["verdict"].to_numpy() != VERDICTS[4],
+        probability_meets(value, error, limit, is_min), np.nan)
     merged = merged.rename(columns={"value": "estimate"})
     order_s = {s: i for i, s in enumerate(samples)}
     order_l = {k: i for i, k in enumerate(zip(lim["spec"], lim["property"], lim["bound"]))}
@@ -413,7 +416,8 @@ def _verdicts(value: np.ndarray, error: np.ndarray, limit: np.ndarray,
     p = probability_meets(value, error, limit, is_min)
     out = np.where(p >= MEETS_AT, VERDICTS[0], np.where(p <= FAILS_AT, VERDICTS[2], VERDICTS[1]))
     if in_domain is not None:
-        out = np.where(np.asarray(in_domain, dtype=bool), out, VERDICTS[4])
+        # outside its range an estimate may still fail on its widened band, never meet
+        out = np.where(np.asarray(in_domain, dtype=bool) | (p <= FAILS_AT), out, VERDICTS[4])
     return np.where(np.isnan(np.asarray(value, dtype=float)), VERDICTS[3], out).astype(object)
 
 

@@ -90,7 +90,7 @@ def test_a_scenario_model_of_lab_drives_the_ranking_with_the_labs_fit(tmp_path):
     for part, key in (("lots", "file"), ("lab", "file")):
         data[part][key] = str(DEMO / data[part][key])
     data["costs"] = str(DEMO / data["costs"])
-    result = run_scenario(read_scenario(scenario_file(tmp_path, data)))
+    result = run_scenario(read_scenario(scenario_file(tmp_path, data), allow_outside=True))
     assert list(result.model_properties) == ["oxidation_stability_110C_h"]
     os_rows = result.comparison.verdicts[
         result.comparison.verdicts["property"] == "oxidation_stability_110C_h"]

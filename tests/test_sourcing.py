@@ -201,8 +201,8 @@ def test_costs_file_keys_override_defaults_and_the_assumptions_say_which(tmp_pat
     assert costs.methanol_price_per_t == 520.0 and costs.glycerol_credit_per_t == 0.0
     assert costs.catalyst_price_per_t == DEFAULT_COSTS.catalyst_price_per_t
     rows = assumptions(costs=costs).set_index("assumption")
-    methanol = [r for r in rows.index if r.startswith("methanol_price_per_t")][0]
-    catalyst = [r for r in rows.index if r.startswith("catalyst_price_per_t")][0]
+    methanol = [r for r in rows.index if r == COST_KEYS["methanol_price_per_t"][0]][0]
+    catalyst = COST_KEYS["catalyst_price_per_t"][0]
     assert rows.loc[methanol, "basis"] == "from costs.json"
     assert rows.loc[catalyst, "basis"].startswith("default; assumption")
 

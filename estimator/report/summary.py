@@ -233,6 +233,12 @@ def decision_summary(comparison, *, mix=None, blend=None, fits: Sequence = (),
              "fuel, first within each group. Cost per tonne of fuel includes processing.")
     body = (f"<h3>Lots, best first</h3>"
             f"{paragraph(f'{len(r)} lots against {specs}{cls}: {outcome}. {order}')}")
+    from_model = getattr(comparison, "model_properties", None) or {}
+    if from_model:
+        body += paragraph("From the lab's model, replacing the published estimates in every "
+                          "decision: " + "; ".join(
+                              f"{column_label(p, unit=False)} ({for_readers(how)})"
+                              for p, how in from_model.items()) + ".")
     body += table_html(lots_table(comparison), verdict_columns=["verdict"],
                        formats={"feedstock cost [per t fuel]": ",.0f",
                                 "cost [per t fuel]": ",.0f"})

@@ -106,9 +106,10 @@ def test_report_takes_a_lab_model_and_says_which_properties_came_from_it(tmp_pat
                                              "basis": "fatty-acid"}}))
     out = tmp_path / "out"
     result = CliRunner().invoke(cli, ["report", str(scenario), "--model", str(model),
-                                      "-o", str(out)])
+                                      "--allow-outside", "-o", str(out)])
     assert result.exit_code == 0, result.output
-    assert "oxidation_stability_110C_h (lab model ridge" in result.stdout
+    assert "From the lab's model, replacing the published estimates" in result.stdout
+    assert "oxidation stability" in result.stdout.split("From the lab's model")[1]
     html = (out / "report.html").read_text(encoding="utf-8")
     assert "From the lab&#x27;s model" in html or "From the lab's model" in html
     ranked = pd.read_csv(out / "comparison.csv")
