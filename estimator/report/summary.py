@@ -172,7 +172,7 @@ def _mix_html(mix) -> str:
     c = mix.constraints
     if "binding" in c.columns:
         binding = [for_readers(str(x)) for x in c.loc[c["binding"].astype(bool), "constraint"]]
-    text = (f"<p><strong>Feedstock cost {mix.cost_per_t_fuel:,.1f} per t of fuel</strong> "
+    text = (f"<p><strong>Cost {mix.cost_per_t_fuel:,.1f} per t of fuel</strong> "
             f"for the mix {html.escape(', '.join(parts))} (shares of the fuel's mass).")
     if binding:
         text += f" Limits that set the mix: {html.escape('; '.join(binding))}."
@@ -185,7 +185,12 @@ def _blend_html(blend) -> str:
     highest = blend.get("highest")
     if highest is None or not len(highest):
         return paragraph("No blend target was set.")
-    matrix = levels_matrix(highest).rename(columns={"sample": "lot"})
+    summary = blend.get("summary")
+    if summary is not None and len(summary):
+        # the blender's table: each cell says why when a level is none or B0
+        matrix = summary.rename(columns=for_readers).rename(columns={"sample": "lot"})
+    else:
+        matrix = levels_matrix(highest).rename(columns={"sample": "lot"})
     return paragraph(
         f"Into {blend['diesel'].name}: the highest % FAME by volume meeting each target; "
         "in brackets, the level with the estimate's error taken against the blend (the "
