@@ -292,3 +292,13 @@ def test_composition_estimates_are_exact_descriptors():
     assert e.loc["linolenic_wt_pct", "value"] == pytest.approx(20.0)
     assert e.loc["pufa4_wt_pct", "value"] == 0.0
     assert (e["error"] == 0).all()
+
+
+def test_normal_cdf_without_scipy_matches_scipy_ndtr():
+    # reference library: scipy.special.ndtr (the standard normal CDF)
+    from scipy.special import ndtr
+
+    from estimator.specs import _normal_cdf
+
+    z = np.linspace(-12.0, 12.0, 2001)
+    np.testing.assert_allclose(_normal_cdf(z), ndtr(z), rtol=1e-12, atol=1e-15)
