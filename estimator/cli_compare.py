@@ -282,6 +282,12 @@ def compare(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
     from_model = model_line(result.model_properties)
     if from_model:
         footer = from_model + "\n" + footer
+    if outdir:  # refuse before the answer is printed, as before anything is written
+        from estimator.files import check_outputs
+        from estimator.report.html import COMPARISON_FILES
+
+        check_outputs([Path(outdir) / name for name in COMPARISON_FILES],
+                      folders=[Path(outdir) / "plots"])
     if not quiet:
         _print_ranking(result, short=bool(outdir))
     if outdir:

@@ -16,7 +16,6 @@ import click
 from estimator.cliutil import (
     CONTEXT,
     ReportingCommand,
-    finite,
     fractions_requested,
     input_options,
     show_file_notes,
@@ -34,12 +33,12 @@ __all__ = ["fit"]
               help="A measured property column to refit (repeatable), named as in predict's "
                    "output, e.g. cetane_number, cfpp_C, oxidation_stability_110C_h.")
 @input_options
-@click.option("--seed", type=click.IntRange(0, 2**32 - 1), default=0, show_default=True,
-              help="Seed of the repeated k-fold shuffles and the Gaussian-process optimizer.")
-@click.option("--tie-tolerance", type=click.FloatRange(0, 50), default=2.0, show_default=True,
-              metavar="PCT", callback=finite,
-              help="Candidates within PCT % of the best CV RMSE tie; a tie goes to the simpler "
-                   "model.")
+@click.option("--seed", type=int, default=0, show_default=True,
+              help="Seed of the repeated k-fold shuffles and the Gaussian-process subsets "
+                   "(0 to 4294967295).")
+@click.option("--tie-tolerance", type=float, default=2.0, show_default=True,
+              metavar="PCT", help="Candidates within PCT % of the best CV RMSE tie; a tie goes "
+                                  "to the simpler model.")
 @click.option("--no-report", is_flag=True,
               help="With -o: write only the model file, no report folder.")
 @click.option("-o", "--output", metavar="FILE.json",

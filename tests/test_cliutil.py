@@ -73,7 +73,8 @@ def test_report_refuses_a_scenario_whose_files_it_would_overwrite(tmp_path):
     shutil.copy(DEMO / "lots.csv", tmp_path / "comparison.csv")
     shutil.copy(DEMO / "diesel_winter.json", tmp_path / "diesel_winter.json")
     scenario = json.loads((DEMO / "scenario.json").read_text())
-    scenario.pop("lab")
+    for key in ("lab", "model", "costs"):  # a scenario of lots, blend and mix only
+        scenario.pop(key, None)
     scenario["lots"]["file"] = "comparison.csv"
     (tmp_path / "scenario.json").write_text(json.dumps(scenario))
     before = _snapshot(tmp_path)

@@ -154,8 +154,8 @@ def test_a_lot_named_with_math_markup_is_drawn_as_plain_text(tmp_path):
     name = HOSTILE / "math_markup_name.csv"
     result = run("compare", name, "-o", tmp_path / "cmp")
     assert result.exit_code == 0, result.output
-    assert (tmp_path / "cmp" / "plots" / "cost_per_t_fuel.svg").exists()
-    assert "$\\frac{$" in (tmp_path / "cmp" / "plots" / "cost_per_t_fuel.svg").read_text()
+    assert (tmp_path / "cmp" / "plots" / "cost_per_t_fuel.png").exists()
+    assert "$\\frac{$" in (tmp_path / "cmp" / "plots" / "cost_per_t_fuel.png").read_text()
     result = run("blend", name, "--diesel", "en590-winter", "--plot", tmp_path / "b.png")
     assert result.exit_code == 0, result.output
     assert (tmp_path / "b.png").stat().st_size > 0
