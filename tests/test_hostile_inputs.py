@@ -155,7 +155,8 @@ def test_a_lot_named_with_math_markup_is_drawn_as_plain_text(tmp_path):
     result = run("compare", name, "-o", tmp_path / "cmp")
     assert result.exit_code == 0, result.output
     assert (tmp_path / "cmp" / "plots" / "cost_per_t_fuel.png").exists()
-    assert "$\\frac{$" in (tmp_path / "cmp" / "plots" / "cost_per_t_fuel.png").read_text()
+    assert (tmp_path / "cmp" / "plots" / "cost_per_t_fuel.png").read_bytes()[:4] == b"\x89PNG"
+    assert "$\\frac{$" in (tmp_path / "cmp" / "report.html").read_text(encoding="utf-8")
     result = run("blend", name, "--diesel", "en590-winter", "--plot", tmp_path / "b.png")
     assert result.exit_code == 0, result.output
     assert (tmp_path / "b.png").stat().st_size > 0

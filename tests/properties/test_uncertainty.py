@@ -204,7 +204,7 @@ def test_validation_coverage_of_default_bands():
         r1.append((r <= band).sum())
         r2.append((r <= 2 * band).sum())
         n += len(r)
-    assert n >= 40
+    assert n >= 35  # the rows a method takes as its own inputs do not count
     assert 0.5 <= sum(r1) / n <= 0.85
     assert sum(r2) / n >= 0.9
 
