@@ -14,6 +14,9 @@ from collections.abc import Sequence
 import numpy as np
 import pandas as pd
 
+#: Headroom, in stated errors, below which a verdict is 'too close to call' (p < 0.9).
+_CLOSE_BANDS = 1.2816
+
 __all__ = ["BLEND_PANELS", "LIMIT_COLOURS", "blend_curves", "mix_shares"]
 
 #: The panels of :func:`blend_curves`: property, axis label, unit.
@@ -303,11 +306,14 @@ def mix_shares(result, *, title: str | None = None):
             tag = f"mix {v:.4g}" + ("  (missed)" if miss else "  (binding)" if b else "")
             tag += f"  (> {HEADROOM_CAP:g})" if cap and not b else ""
             ax2.text(max(ri, 0) + 0.1, yi, tag, va="center", ha="left", fontsize=8.5)
-        ax2.axvline(1.0, color="#555555", linewidth=0.9, linestyle=":")
+        # the cut of 'too close to call': probability 0.9 of meeting, 1.28 standard
+        # uncertainties (estimator.specs.MEETS_AT)
+        ax2.axvline(_CLOSE_BANDS, color="#555555", linewidth=0.9, linestyle=":")
         required = float(getattr(result, "margin_bands", 0.0))
         if required > 0 and required != 1.0:
             ax2.axvline(required, color="#117733", linewidth=1.2, linestyle="--")
-        ax2.set_yticks(y2, c["constraint"].astype(str))
+        ax2.set_yticks(y2, [t.replace(">=", "≥").replace("<=", "≤")
+                            for t in c["constraint"].astype(str)])
         ax2.set_ylim(-0.6, m - 0.4)
         lo = float(np.nanmin(np.r_[rel, 0.0]))
         ax2.set_xlim(lo - 0.5 if lo < 0 else -0.2, HEADROOM_CAP * 1.6)
@@ -318,7 +324,7 @@ def mix_shares(result, *, title: str | None = None):
 
         handles = [Patch(facecolor="#88CCEE", edgecolor="#222222", label="met with headroom"),
                    Line2D([], [], color="#555555", linewidth=0.9, linestyle=":",
-                          label="1 stated error (closer: too close to call)"),
+                          label=f"{_CLOSE_BANDS:.2f} stated errors (closer: too close to call)"),
                    Patch(facecolor="#DDCC77", hatch="///", edgecolor="#222222",
                          label="binding (at the limit or the margin)")]
         if required > 0 and required != 1.0:
