@@ -17,6 +17,7 @@ from estimator.cliutil import (
     CONTEXT,
     ReportingCommand,
     ReportingGroup,
+    echo_text_columns,
     emit,
     fractions_requested,
     input_options,
@@ -184,15 +185,7 @@ def _print_columns(table, *, footer: str = "") -> None:
     width = max(60, shutil.get_terminal_size((100, 24)).columns)
     text_cols = [c for c in ("flags", "notes") if c in table.columns]
     click.echo(format_columns(table.drop(columns=text_cols), width=width))
-    for col in text_cols:
-        lines = [(str(s), for_readers(v)) for s, v in zip(table.iloc[:, 0], table[col])
-                 if str(v)]
-        if lines:
-            click.echo(f"\n{col}:")
-            for sample, text in lines:
-                click.echo(f"  {sample}: {text}")
-    if footer:
-        click.echo("\n" + footer)
+    echo_text_columns(table, text_cols, footer=footer, words=for_readers)
 
 
 def _wide_for_terminal(table, *, descriptors: bool = False):

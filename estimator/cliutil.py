@@ -232,8 +232,13 @@ def emit(frame, output: str | None, *, title: str = "", footer: str = "", sheets
         click.echo(title)
     text_cols = [c for c in ("flags", "notes") if c in frame.columns]
     click.echo(format_table(frame.drop(columns=text_cols)))
+    echo_text_columns(frame, text_cols, footer=footer)
+
+
+def echo_text_columns(frame, text_cols, *, footer: str = "", words=str) -> None:
+    """List the ``flags`` / ``notes`` cells under a table (``sample: text``), then the footer."""
     for col in text_cols:
-        lines = [(str(s), str(v)) for s, v in zip(frame.iloc[:, 0], frame[col]) if str(v)]
+        lines = [(str(s), words(v)) for s, v in zip(frame.iloc[:, 0], frame[col]) if str(v)]
         if lines:
             click.echo(f"\n{col}:")
             for sample, text in lines:
