@@ -261,19 +261,22 @@ def methods(prop, output) -> None:
     click.echo("Every ± printed is one standard uncertainty (one standard deviation). The\n"
                "band of each method below comes from the evidence named; outside a method's\n"
                "fitted domain it is tripled, and the GC repeatability of the profile is added.")
+    from estimator.report.labels import column_label, for_readers, mark_text, method_name
+
+    click.echo("The key in brackets is what --method PROPERTY=KEY takes.")
     for name, group in table.groupby("property", sort=False):
-        unit = group["unit"].iloc[0]
-        click.echo(f"\n{name} [{unit}]")
+        click.echo(f"\n{column_label(name)} ({name})")
         for _, row in group.iterrows():
             mark = "*" if row["default"] else " "
             err = _error_text(row["error"], row["error_kind"])
-            click.echo(f"  {mark} {row['method']:<22} {row['provenance']:<8} {err}")
-            click.echo(f"      {row['citation']}")
+            click.echo(f"  {mark} {method_name(row['method'])} [{row['method']}]")
+            click.echo(f"      {mark_text(row['provenance'])}; {err}")
+            click.echo(f"      {for_readers(row['citation'])}")
             click.echo(f"      fitted domain: {row['domain'] or 'not stated'}")
-            click.echo(f"      band (1 SD): {row['band_evidence']}")
+            click.echo(f"      band (1 SD): {for_readers(row['band_evidence'])}")
         reason = DEFAULT_REASONS.get(name)
         if reason:
-            click.echo(f"    default (*) because: {reason}")
+            click.echo(f"    default (*) because: {for_readers(reason)}")
 
 
 def _error_text(error: float, kind: str) -> str:

@@ -172,8 +172,11 @@ def test_bad_temperature_list_is_a_usage_error():
 def test_methods_lists_citations_and_marks_the_default():
     result = run("methods", "--property", "cfpp_C")
     assert result.exit_code == 0
-    assert "* ramos2009" in result.output
+    assert "* Ramos et al. 2009 [ramos2009]" in result.output
     assert "Bioresour" in result.output or "Bioresource" in result.output
+    # marks in words, no reference-note names (issue 13)
+    assert "recalled, not yet checked against the paper" in result.output
+    assert "MEMORY" not in result.output and "correlations.md" not in result.output
 
 
 def test_methods_says_what_the_plus_minus_is_and_names_each_bands_evidence():
