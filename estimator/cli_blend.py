@@ -439,7 +439,7 @@ def _mix_extras(result) -> dict:
 
 def _cost_line(result) -> str:
     return (f"cost of the mixed fuel (oil, methanol, catalyst, pretreatment, less the glycerol "
-            f"credit): {result.cost_per_t_fuel:,.1f} per t of fuel ({result.solver})")
+            f"credit): {result.cost_per_t_fuel:,.1f} per t of fuel")
 
 
 def _mix_footer(result) -> str:
