@@ -15,7 +15,6 @@ g/cm³; cloud point 263 looks like kelvin; viscosity 2700 is not in mm²/s).
 
 from __future__ import annotations
 
-import json
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
@@ -186,12 +185,9 @@ def read_diesel(path: str | Path, required: Iterable[str] | None = None) -> Dies
         raise InputFileError(f"{label}: no such file")
     suffix = path.suffix.lower()
     if suffix == ".json":
-        try:
-            raw = json.loads(path.read_text(encoding="utf-8"))
-        except (UnicodeDecodeError, json.JSONDecodeError, RecursionError, ValueError) as exc:
-            raise InputFileError(f"{label}: not valid JSON ({str(exc)[:80]})") from None
-        if not isinstance(raw, dict):
-            raise InputFileError(f"{label}: expected one JSON object of property: value")
+        from estimator.files import read_json_object
+
+        raw = read_json_object(path, "property: value")
     elif suffix == ".csv":
         try:
             frame = pd.read_csv(path, keep_default_na=False, na_values=[""], dtype=str)

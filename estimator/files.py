@@ -37,12 +37,12 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from estimator.errors import UsageError
+from estimator.errors import InputFileError, UsageError
 
 __all__ = [
     "SIGNIFICANT_DIGITS", "TABLE_SUFFIXES", "XLSX_MAX_ROWS", "TableWriter", "atomic_write",
     "check_outputs", "csv_text", "guard_inputs", "protect_inputs", "protected_inputs",
-    "round_significant", "write_table",
+    "read_json_object", "round_significant", "write_table",
 ]
 
 #: Output suffixes :func:`write_table` understands.
@@ -628,3 +628,20 @@ class TableWriter:
                 with contextlib.suppress(OSError):
                     if self._tmp.exists():
                         self._tmp.unlink()
+
+
+def read_json_object(path: Path, expected: str) -> dict:
+    """The one JSON object in ``path``; anything else is one line naming the file.
+
+    ``expected`` says what the object holds (e.g. ``"property: value"``) for the
+    message when the file holds another JSON value. Deep nesting and integers too
+    large to read are reported as invalid JSON, never as a traceback.
+    """
+    label = Path(path).name
+    try:
+        raw = json.loads(Path(path).read_text(encoding="utf-8"))
+    except (UnicodeDecodeError, json.JSONDecodeError, RecursionError, ValueError) as exc:
+        raise InputFileError(f"{label}: not valid JSON ({str(exc)[:80]})") from None
+    if not isinstance(raw, dict):
+        raise InputFileError(f"{label}: expected one JSON object of {expected}")
+    return raw

@@ -37,7 +37,6 @@ show.
 
 from __future__ import annotations
 
-import json
 import math
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -162,12 +161,9 @@ def read_costs(path: str | Path) -> ProcessCosts:
     label = path.name
     if not path.is_file():
         raise InputFileError(f"{label}: no such file")
-    try:
-        raw = json.loads(path.read_text(encoding="utf-8"))
-    except (UnicodeDecodeError, json.JSONDecodeError, RecursionError, ValueError) as exc:
-        raise InputFileError(f"{label}: not valid JSON ({str(exc)[:80]})") from None
-    if not isinstance(raw, dict):
-        raise InputFileError(f"{label}: expected one JSON object of cost key: number")
+    from estimator.files import read_json_object
+
+    raw = read_json_object(path, "cost key: number")
     raw = {k: v for k, v in raw.items() if not str(k).startswith("_")}  # "_comment" keys
     unknown = [k for k in raw if k not in COST_KEYS]
     if unknown:
