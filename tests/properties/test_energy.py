@@ -112,6 +112,7 @@ def test_b100_heating_values_against_greet(profile):
     assert 2.4 < table.loc[0, "hhv_MJ_kg"] - table.loc[0, "lhv_MJ_kg"] < 2.8
 
 
+@pytest.mark.memory  # the reference note's own evaluation of a recalled equation
 @pytest.mark.parametrize(
     ("key", "published"),
     # correlations.md 9.4, DERIVED from the Ramirez-Verduzco 2012 equation (MEMORY)
@@ -124,6 +125,7 @@ def test_ramirezverduzco2012_per_ester_consistency(key, published):
     assert value == pytest.approx(published, abs=0.005)
 
 
+@pytest.mark.memory  # Freedman & Bagby values recalled from memory
 @pytest.mark.parametrize(
     ("key", "published"),
     # Freedman & Bagby 1989, JAOCS 66:1601 (MEMORY), as MJ/kg in correlations.md 9.3;
