@@ -182,6 +182,7 @@ def _with(w: np.ndarray, added: dict[str, float]) -> np.ndarray:
     return 100.0 * w / w.sum()
 
 
+@pytest.mark.regression  # a behaviour guard (issue 9); its thresholds are our model's numbers
 def test_cloud_point_is_robust_to_half_percent_traces_of_long_chain_esters():
     base = _cp(_soybean())
     assert _cp(_with(_soybean(), {"C20:0": 0.25, "C22:0": 0.25})) == pytest.approx(base, abs=0.1)

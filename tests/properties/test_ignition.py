@@ -161,7 +161,8 @@ def test_knothe2005_pure_ester_cetane_numbers_stay_physical_for_every_species():
 @pytest.mark.parametrize(("key", "nearest_measured"), [
     ("C20:5", 29.6),  # C20:4 methyl arachidonate, Knothe 2012 (VERIFIED [S13])
     ("C22:5", 24.4),  # C22:6 DHA methyl ester, Knothe 2012 (VERIFIED [S13])
-    ("C18:4", 22.7),  # C18:3 methyl linolenate, Knothe compilation (MEMORY)
+    # C18:3 methyl linolenate, Knothe compilation (MEMORY): a recalled value
+    pytest.param("C18:4", 22.7, marks=pytest.mark.memory),
 ])
 def test_untabulated_polyenes_take_the_nearest_measured_polyene(key, nearest_measured):
     cn, tabulated = ignition.pure_ester_cetane_numbers()
