@@ -619,7 +619,7 @@ def is_species_like(text: str) -> bool:
     >>> is_species_like("ffa_wt_pct"), is_species_like("cloud_point_C")
     (False, False)
     """
-    if not isinstance(text, str):
+    if not isinstance(text, str) or _NUMBER_LIKE.fullmatch(text.strip().lower()):
         return False
     folded = _fold(text)
     if not folded:
@@ -627,8 +627,6 @@ def is_species_like(text: str) -> bool:
     if _CORE.search(folded):
         return True
     if _PROPERTY_UNIT.search(" " + re.sub(r"[_/]+", " ", folded)):
-        return False
-    if _NUMBER_LIKE.fullmatch(folded):
         return False
     # _canonical, not canonical_species: the error message's close-match search
     # (difflib) is the slow part, and a header search asks this of every cell
