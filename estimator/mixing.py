@@ -355,6 +355,8 @@ class MixResult:
     diagnosis: pd.DataFrame | None = None
     notes: list[str] = field(default_factory=list)
     margin_bands: float = 0.0
+    #: The specification the mix is held inside (None: only the user's own limits).
+    spec: str | None = None
     #: The processing costs used (None: the defaults of :mod:`estimator.sourcing`).
     costs: object = None
     #: Properties a lab model gave (``property -> how``), for the report.
@@ -547,6 +549,7 @@ def _solve(profile, model, constraints, valued, cost, yields, avail, notes, w_lo
     result = _finish(profile, problem, valued, shares, feasible, message, solver, hows, demand_t,
                      avail, notes, spec, climate_class, diagnosis=diagnosis, models=models)
     result.margin_bands = float(margin_bands)
+    result.spec = spec
     if not feasible and margin_bands > 0 and diagnosis is not None:
         result.message = result.message.replace(
             "meets", f"stays {margin_bands:g} stated error(s) inside every limit of", 1) + (

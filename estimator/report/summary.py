@@ -185,6 +185,20 @@ def _mix_html(mix) -> str:
         binding = [for_readers(str(x)) for x in c.loc[c["binding"].astype(bool), "constraint"]]
     text = (f"<p><strong>Cost {mix.cost_per_t_fuel:,.1f} per t of fuel</strong> "
             f"for the mix {html.escape(', '.join(parts))} (shares of the fuel's mass).")
+    held = []
+    if getattr(mix, "spec", None):
+        held.append(f"every limit of {spec_name(mix.spec)}")
+    if "source" in c.columns:
+        own = [for_readers(str(x)) for x in c.loc[c["source"].astype(str) == "user",
+                                                  "constraint"]]
+        if own:
+            held.append(f"your own targets ({'; '.join(own)})")
+    if held:
+        margin = getattr(mix, "margin_bands", 0.0)
+        sentence = (f" It is held inside {' and '.join(held)}"
+                    + (f", each by at least {margin:g} stated errors" if margin > 0 else "")
+                    + ".")
+        text += html.escape(sentence)
     if binding:
         text += f" Limits that set the mix: {html.escape('; '.join(binding))}."
     return text + "</p>"
