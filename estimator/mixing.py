@@ -588,8 +588,10 @@ def _with_margin(constraints: Sequence[Constraint], errors: Mapping[str, float],
 
 
 def _infeasible_message(diagnosis: pd.DataFrame, spec: str | None) -> str:
+    from estimator.comparison import SPEC_LABELS
+
     missed = diagnosis[diagnosis["miss"] > 0]
-    what = f"meets {spec}" if spec else "meets every limit"
+    what = f"meets {SPEC_LABELS.get(spec, spec)}" if spec else "meets every limit"
     parts = []
     for row in missed.itertuples(index=False):
         extra = (" (no lot or mix reaches it)" if not row.reachable_alone else
