@@ -144,7 +144,10 @@ def main(argv: list[str] | None = None) -> int:
                            "display.float_format", lambda x: f"{x:.3g}"):
         print(table.to_string(index=False))
         used = table[table["n"] > 0]
-        for label, sub in (("all methods", used), ("default methods", used[used["default"]])):
+        groups = [("default methods", used[used["default"]])]
+        if "--defaults" not in argv:
+            groups.insert(0, ("all methods", used))
+        for label, sub in groups:
             if len(sub):
                 w = sub["n"].to_numpy(dtype=float)
                 one = float(np.average(sub["within_1"], weights=w))
