@@ -18,18 +18,29 @@ after the other in this process.
 from __future__ import annotations
 
 import multiprocessing
+import multiprocessing.connection
 import os
+import time
 from collections.abc import Callable, Sequence
 from typing import Any
 
-__all__ = ["ENV_WORKERS", "run_jobs", "worker_count"]
+__all__ = ["ENV_WORKERS", "STALL_SECONDS", "run_jobs", "worker_count"]
 
 #: Environment variable that caps the number of worker processes (``1``: no workers).
 ENV_WORKERS = "FAME_ESTIMATOR_WORKERS"
 
+#: Seconds without any progress (no unit of work, no job finished) after which the
+#: workers are killed and the jobs run again here, one after the other: a forked
+#: worker can block on a lock some other thread of the parent held at the fork.
+STALL_SECONDS = 60.0
+
 # set in the parent just before forking; the children read them (inherited memory)
 _JOBS: tuple[Callable[..., Any], Sequence[Any]] | None = None
 _COUNTER: Any = None
+
+
+class _Stalled(Exception):
+    """The workers made no progress for :data:`STALL_SECONDS`, or one died."""
 
 
 def worker_count(n_jobs: int) -> int:
@@ -59,12 +70,16 @@ def _tick(n: int) -> None:
         _COUNTER.value += n
 
 
-def _run_one(index: int) -> tuple[str, Any]:
+def _worker(indices: list[int], conn) -> None:  # pragma: no cover - runs in a child
+    """Run the jobs ``indices`` and send ``(index, status, value)`` for each."""
     func, items = _JOBS
-    try:
-        return "ok", func(items[index], _tick)
-    except Exception as exc:  # sent back and raised again in the parent
-        return "error", (type(exc), exc.args)
+    for index in indices:
+        try:
+            message = (index, "ok", func(items[index], _tick))
+        except Exception as exc:  # sent back and raised again in the parent
+            message = (index, "error", (type(exc), exc.args))
+        conn.send(message)
+    conn.close()
 
 
 def run_jobs(
@@ -78,29 +93,62 @@ def run_jobs(
     ``func(item, tick)`` does one job and calls ``tick(n)`` after each ``n`` units of
     work (``tick`` is None when there is no progress bar and jobs run here). The
     first error of a job is raised again here, as its own type with its message.
+    Should the workers stall (no progress for :data:`STALL_SECONDS`) or die, they
+    are killed and every job runs here instead, with the same results.
     """
-    global _JOBS, _COUNTER
     workers = worker_count(len(items))
-    if workers <= 1:
-        return [func(item, progress) for item in items]
+    if workers > 1:
+        try:
+            return _forked(func, items, workers, progress)
+        except _Stalled:
+            pass
+    return [func(item, progress) for item in items]
+
+
+def _forked(func, items, workers, progress) -> list[Any]:
+    global _JOBS, _COUNTER
     ctx = multiprocessing.get_context("fork")
     _JOBS, _COUNTER = (func, items), ctx.Value("q", 0)
+    procs, conns = [], {}
     try:
-        with ctx.Pool(workers) as pool:
-            pending = pool.map_async(_run_one, range(len(items)), chunksize=1)
-            shown = 0
-            while not pending.ready():
-                pending.wait(0.2)
-                done = _COUNTER.value
-                if progress is not None and done > shown:
-                    progress(done - shown)
-                    shown = done
-            outcomes = pending.get()
-            if progress is not None and _COUNTER.value > shown:
-                progress(_COUNTER.value - shown)
+        for w in range(workers):
+            receive, send = ctx.Pipe(duplex=False)
+            proc = ctx.Process(target=_worker, args=(list(range(w, len(items), workers)), send),
+                               daemon=True)
+            proc.start()
+            send.close()
+            procs.append(proc)
+            conns[receive] = proc
+        results: dict[int, tuple[str, Any]] = {}
+        shown, last_seen, last_change = 0, (0, 0), time.monotonic()
+        while conns:
+            for conn in multiprocessing.connection.wait(list(conns), timeout=0.2):
+                try:
+                    index, status, value = conn.recv()
+                    results[index] = (status, value)
+                except EOFError:  # this worker has sent all it will send
+                    del conns[conn]
+            done = _COUNTER.value
+            if progress is not None and done > shown:
+                progress(done - shown)
+                shown = done
+            now = time.monotonic()
+            if (done, len(results)) != last_seen:
+                last_seen, last_change = (done, len(results)), now
+            elif now - last_change > STALL_SECONDS:
+                raise _Stalled
+        if len(results) != len(items):  # a worker died before sending all its jobs
+            raise _Stalled
     finally:
+        for proc in procs:
+            if proc.is_alive():
+                proc.kill()
+            proc.join(timeout=5)
+        for conn in list(conns):
+            conn.close()
         _JOBS, _COUNTER = None, None
-    for status, value in outcomes:
+    for index in range(len(items)):
+        status, value = results[index]
         if status == "error":
             kind, args = value
             try:
@@ -108,5 +156,4 @@ def run_jobs(
             except Exception:  # an error type built from other arguments
                 error = RuntimeError(*args)
             raise error
-    return [value for _, value in outcomes]
-
+    return [results[index][1] for index in range(len(items))]

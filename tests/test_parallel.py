@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import os
+import time
+
 import numpy as np
 import pytest
 
@@ -69,3 +72,31 @@ def test_refit_of_several_properties_does_not_depend_on_the_workers(monkeypatch)
     for a, b in zip(here, forked, strict=True):
         assert a.chosen.candidate == b.chosen.candidate
         np.testing.assert_array_equal(a.chosen.predictions, b.chosen.predictions)
+
+
+_PARENT = os.getpid()
+
+
+def _hangs_in_a_worker(item: int, tick) -> int:
+    if os.getpid() != _PARENT:
+        time.sleep(3600)  # as a worker blocked on a lock inherited at the fork
+    return item + 1
+
+
+def _dies_in_a_worker(item: int, tick) -> int:
+    if os.getpid() != _PARENT:
+        os._exit(3)
+    return item + 1
+
+
+def test_stalled_workers_are_killed_and_the_jobs_run_here(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    monkeypatch.setattr(parallel, "STALL_SECONDS", 1.0)
+    start = time.monotonic()
+    assert run_jobs(_hangs_in_a_worker, [1, 2, 3]) == [2, 3, 4]
+    assert time.monotonic() - start < 30
+
+
+def test_a_worker_that_dies_leaves_the_jobs_to_this_process(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    assert run_jobs(_dies_in_a_worker, [1, 2, 3]) == [2, 3, 4]
