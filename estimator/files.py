@@ -37,6 +37,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from estimator.bulk_text import SIGNIFICANT_DIGITS, body_bytes, round_significant
 from estimator.errors import InputFileError, UsageError
 
 __all__ = [
@@ -47,8 +48,6 @@ __all__ = [
 
 #: Output suffixes :func:`write_table` understands.
 TABLE_SUFFIXES = (".csv", ".tsv", ".xlsx", ".json")
-#: Significant digits of every number written to CSV, TSV, JSON and XLSX.
-SIGNIFICANT_DIGITS = 6
 #: Rows of one XLSX sheet, header included (the file format's limit; also
 #: ``estimator.xlsx.MAX_ROWS``).
 XLSX_MAX_ROWS = 1_048_576
@@ -215,40 +214,6 @@ def atomic_write(path: str | Path, writer: Callable[[Path], None]) -> Path:
 
 
 # ------------------------------------------------------------------ numbers and text cells
-def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
-    """Round each value to ``digits`` significant digits (NaN and inf kept, no ``-0``).
-
-    >>> round_significant([59.644137, -0.000123456789, 0.0, -0.0, 1234567.0]).tolist()
-    [59.6441, -0.000123457, 0.0, 0.0, 1234570.0]
-    >>> float(round_significant(2.0 / 3.0))
-    0.666667
-    """
-    given = np.asarray(values, dtype=float)
-    a = given.reshape(-1)
-    out = a + 0.0  # also turns -0.0 into 0.0
-    nz = np.isfinite(a) & (a != 0)
-    x = a[nz] if not nz.all() else a
-    if not len(x):
-        return out.reshape(given.shape)
-    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-        d = (digits - 1) - np.floor(np.log10(np.abs(x)))
-        # scale by an exact power of ten (up to 1e22), so that m / 10**d is the
-        # double nearest the decimal m * 10**-d
-        p = np.power(10.0, np.minimum(np.abs(d), 308.0))
-        up = d >= 0
-        r = np.empty_like(x)
-        np.multiply(x, p, out=r, where=up)
-        np.divide(x, p, out=r, where=~up)
-        np.rint(r, out=r)
-        np.divide(r, p, out=r, where=up)
-        np.multiply(r, p, out=r, where=~up)
-    bad = ~np.isfinite(r)
-    if bad.any():
-        r[bad] = x[bad]
-    out[nz] = r + 0.0
-    return out.reshape(given.shape)
-
-
 def _formula_like(text: str) -> bool:
     return bool(text) and text[0] in FORMULA_START and not _NUMBER.match(text.strip())
 
@@ -305,6 +270,7 @@ def _header(columns: Sequence, sep: str) -> str:
 
 
 def _body_python(frame: pd.DataFrame, sep: str) -> str:
+    """The body cell by cell (the plain reference the bulk path is tested against)."""
     cols = []
     for name in frame.columns:
         s = frame[name]
@@ -318,6 +284,30 @@ def _body_python(frame: pd.DataFrame, sep: str) -> str:
     if not cols:
         return "\n" * len(frame)
     return "".join(sep.join(row) + "\n" for row in zip(*cols, strict=True))
+
+
+def _body_bulk(frame: pd.DataFrame, sep: str) -> bytes | None:
+    """The same bytes as :func:`_body_python`, laid out in bulk (:mod:`estimator.bulk_text`)."""
+    columns = []
+    for name in frame.columns:
+        s = frame[name]
+        kind = _column_kind(s)
+        if kind == "float":
+            columns.append(("float", s.to_numpy(dtype=float, na_value=np.nan)))
+            continue
+        if kind in ("int", "bool"):
+            codes, uniques = pd.factorize(s.to_numpy())
+            cells = [str(v).encode("utf-8") for v in uniques.tolist()]
+        else:
+            values = s.to_numpy(dtype=object)
+            if pd.api.types.infer_dtype(values, skipna=True) in ("string", "empty"):
+                codes, uniques = pd.factorize(values)
+                cells = [_text_cell(u, sep).encode("utf-8") for u in uniques.tolist()]
+            else:
+                cells = [_object_cell(v, sep).encode("utf-8") for v in values.tolist()]
+                codes = np.arange(len(cells))
+        columns.append(("text", (cells, codes)))
+    return body_bytes(columns, len(frame), sep)
 
 
 def _arrow():
@@ -400,10 +390,14 @@ def csv_text(frame: pd.DataFrame, *, sep: str = ",", header: bool = True,
     ...          fast=False).decode()
     'sample,x\\n\\'=1+2,-1\\n"a,b",\\n'
     """
-    arrow = _arrow() if fast is not False else None
+    head = _header(frame.columns, sep).encode("utf-8") if header else b""
+    if fast is None and len(frame):
+        body = _body_bulk(frame, sep)
+        if body is not None:
+            return head + body
+    arrow = _arrow() if fast else None
     if fast and arrow is None:
         raise ImportError("pyarrow is not installed")
-    head = _header(frame.columns, sep).encode("utf-8") if header else b""
     if arrow is not None and len(frame):
         return head + _body_arrow(frame, sep, arrow)
     return head + _body_python(frame, sep).encode("utf-8")

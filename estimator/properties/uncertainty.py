@@ -163,7 +163,7 @@ _MIXING_RULES = {
 
 
 def _mixing_rule(fp: np.ndarray, w: np.ndarray, v: np.ndarray):
-    """(g, g^-1, g(fp)) of the rule the values follow on these rows, or None."""
+    """(name, g(fp)) of the rule the values follow on these rows, or None."""
     if not (np.isfinite(fp).all() and np.isfinite(v).all()):
         return None
     scale = max(float(np.max(np.abs(v), initial=0.0)), 1.0)
@@ -174,7 +174,7 @@ def _mixing_rule(fp: np.ndarray, w: np.ndarray, v: np.ndarray):
         with np.errstate(all="ignore"):
             pred = ginv(w @ gp / 100.0)
         if np.allclose(pred, v, rtol=0.0, atol=1e-9 * scale):
-            return g, ginv, gp
+            return name, gp
     return None
 
 
@@ -183,32 +183,59 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
 
     A method that is a mixing rule of its pure-ester values (checked here, on these
     rows: linear, logarithmic or reciprocal mass-weighted mean) is moved exactly
-    through those values instead of being evaluated once more per species.
+    through those values instead of being evaluated once more per species (all
+    methods of one rule at once). The others are evaluated on the rows that hold
+    the species, through ``evaluate.species_step`` when the callable has one.
     """
     n_species = w.shape[1]
     pure = evaluate(100.0 * np.eye(n_species))
-    rules = {}
+    by_rule: dict[str, list[tuple[str, np.ndarray]]] = {}
     for k, v in base.items():
         rule = _mixing_rule(np.asarray(pure[k], dtype=float), w, v)
         if rule is not None:
-            g, ginv, gp = rule
-            rules[k] = (ginv, gp, w @ gp / 100.0)
-    var = {k: np.zeros_like(v) for k, v in base.items()}
-    rest = [k for k in base if k not in rules]
+            by_rule.setdefault(rule[0], []).append((k, rule[1]))
+    # per rule: the keys, g of their pure-ester values (n_species, m), the weighted means
+    # of g (n, m) and the base values (n, m)
+    stacks = []
+    for name, items in by_rule.items():
+        keys = [k for k, _ in items]
+        gp = np.column_stack([g for _, g in items])
+        stacks.append((keys, _MIXING_RULES[name][1], gp, w @ gp / 100.0,
+                       np.column_stack([base[k] for k in keys]),
+                       np.zeros((w.shape[0], len(keys)))))
+    ruled = {k for keys, *_ in stacks for k in keys}
+    var = {k: np.zeros_like(v) for k, v in base.items() if k not in ruled}
+    rest = [k for k in base if k not in ruled]
+    species_step = getattr(evaluate, "species_step", None)
+    total = w.sum(axis=1)
     for j in np.flatnonzero((sd > 0).any(axis=0)):
         h = sd[:, j]
-        shrink = 100.0 / (100.0 + h)
-        for k, (ginv, gp, mean) in rules.items():
+        shrink = (100.0 / (100.0 + h))[:, None]
+        for _, ginv, gp, mean, values, acc in stacks:
             with np.errstate(all="ignore"):
-                d = ginv(shrink * (mean + h * gp[j] / 100.0)) - base[k]
-            var[k] += np.where(np.isfinite(d), d * d, 0.0)
-        if rest:
-            step = w.copy()
-            step[:, j] += h
-            moved = evaluate(_renormalise(step), rest)
-            for k in rest:
-                d = np.asarray(moved[k], dtype=float) - base[k]
-                var[k] += np.where(np.isfinite(d), d * d, 0.0)
+                d = ginv(shrink * (mean + h[:, None] * gp[j] / 100.0)) - values
+            acc += np.where(np.isfinite(d), d * d, 0.0)
+        if not rest:
+            continue
+        rows = np.flatnonzero(h > 0)  # elsewhere the step is zero
+
+        def stepped(rows=rows, j=j, h=h):
+            # w with h more of species j, renormalised to 100
+            factor = 100.0 / (total[rows] + h[rows])
+            step = w[rows] * factor[:, None]
+            step[:, j] += h[rows] * factor
+            return step
+
+        if species_step is not None:
+            moved = species_step(j, h, rows, rest, stepped)
+        else:
+            moved = evaluate(stepped(), rest)
+        for k in rest:
+            d = np.asarray(moved[k], dtype=float) - base[k][rows]
+            var[k][rows] += np.where(np.isfinite(d), d * d, 0.0)
+    for keys, *_, acc in stacks:
+        for i, k in enumerate(keys):
+            var[k] = acc[:, i]
     return {k: np.where(np.isfinite(v), np.sqrt(var[k]), np.nan) for k, v in base.items()}
 
 
@@ -228,7 +255,10 @@ def composition_sd(
     ----------
     evaluate : callable
         ``evaluate(wt_pct, names=None) -> {name: values}`` for any number of rows;
-        ``names`` (optional) restricts the names evaluated.
+        ``names`` (optional) restricts the names evaluated. It may carry an attribute
+        ``species_step(j, h, rows, names, stepped)`` giving the values on ``rows`` of
+        the composition with ``h`` [wt %] more of species ``j``, renormalised (the
+        composition itself is ``stepped()``), when it knows a quicker way.
     wt_pct : ndarray, shape (n, n_species)
         FAME mass %, rows summing to 100. [wt %]
     gc : GCRepeatability
