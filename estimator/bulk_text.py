@@ -14,12 +14,15 @@ and infinities) go through Python's own formatting.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from functools import cache
 
 import numpy as np
 
-__all__ = ["SIGNIFICANT_DIGITS", "body_bytes", "number_fields", "round_significant", "text_fields"]
+__all__ = [
+    "SIGNIFICANT_DIGITS", "body_bytes", "number_fields", "plain_text_fields", "round_significant",
+    "text_fields",
+]
 
 #: Significant digits of every number written (the layout of :func:`number_fields`
 #: is made for six).
@@ -216,6 +219,33 @@ def text_fields(cells: Sequence[bytes], codes: np.ndarray) -> np.ndarray:
     return picked.view(np.uint8).reshape(-1, width)
 
 
+def plain_text_fields(texts: Sequence[str], codes: np.ndarray, sep: str,
+                      formula_safe: Callable[[str], str]) -> np.ndarray | None:
+    """Fields of text cells without Python work per cell, or None when that cannot be done.
+
+    Done when every text is ASCII with no separator, quote, line break or NUL (none
+    needs quoting): the texts become a character matrix in one step; only the texts
+    that start like a formula go through ``formula_safe``. ``codes`` index ``texts``
+    per row (-1: empty cell).
+    """
+    texts = list(texts)
+    joined = "\n".join(texts)
+    if (not joined.isascii() or joined.count("\n") != max(len(texts) - 1, 0)
+            or any(ch in joined for ch in (sep, '"', "\r", "\0"))):
+        return None
+    chars = np.array([*texts, ""], dtype=str)
+    width = chars.dtype.itemsize // 4
+    first = chars.view(np.uint32).reshape(-1, width)[:, 0]
+    risky = np.flatnonzero(np.isin(first, [ord(c) for c in "=+-@\t"]))
+    if len(risky):
+        for i in risky.tolist():
+            texts[i] = formula_safe(texts[i])
+        chars = np.array([*texts, ""], dtype=str)
+        width = chars.dtype.itemsize // 4
+    matrix = chars.view(np.uint32).reshape(-1, width).astype(np.uint8)
+    return matrix[np.where(codes < 0, len(texts), codes)]
+
+
 def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes | None:
     """The CSV/TSV body of ``n`` rows from prepared columns; None when it cannot be done here.
 
@@ -223,7 +253,8 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
 
     * ``("float", values)``: float array (rounded and formatted here);
     * ``("text", (cells, codes))``: the distinct cells, already formatted and encoded,
-      and an int code per row (-1: empty cell).
+      and an int code per row (-1: empty cell);
+    * ``("fields", matrix)``: the cells as NUL-padded bytes, one row per row.
 
     Returns None when a text cell holds a NUL byte (the layout drops NUL bytes) or the
     separator is not one ASCII character.
@@ -246,12 +277,14 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
             values = np.column_stack(block) if len(block) > 1 else block[0][:, None]
             parts.append(number_fields(values, sep, first=i == 0))
         else:
-            cells, codes = data
-            if any(b"\0" in c for c in cells):
-                return None
+            if kind == "text":
+                cells, codes = data
+                if any(b"\0" in c for c in cells):
+                    return None
+                data = text_fields(cells, np.asarray(codes))
             if i:
                 parts.append(np.full((n, 1), ord(sep), np.uint8))
-            parts.append(text_fields(cells, np.asarray(codes)))
+            parts.append(data)
         i = j
     parts.append(np.full((n, 1), ord("\n"), np.uint8))
     flat = np.concatenate(parts, axis=1).reshape(-1)

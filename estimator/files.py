@@ -37,7 +37,12 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from estimator.bulk_text import SIGNIFICANT_DIGITS, body_bytes, round_significant
+from estimator.bulk_text import (
+    SIGNIFICANT_DIGITS,
+    body_bytes,
+    plain_text_fields,
+    round_significant,
+)
 from estimator.errors import InputFileError, UsageError
 
 __all__ = [
@@ -302,7 +307,12 @@ def _body_bulk(frame: pd.DataFrame, sep: str) -> bytes | None:
             values = s.to_numpy(dtype=object)
             if pd.api.types.infer_dtype(values, skipna=True) in ("string", "empty"):
                 codes, uniques = pd.factorize(values)
-                cells = [_text_cell(u, sep).encode("utf-8") for u in uniques.tolist()]
+                texts = uniques.tolist()
+                fields = plain_text_fields(texts, codes, sep, lambda t: _text_cell(t, sep))
+                if fields is not None:
+                    columns.append(("fields", fields))
+                    continue
+                cells = [_text_cell(u, sep).encode("utf-8") for u in texts]
             else:
                 cells = [_object_cell(v, sep).encode("utf-8") for v in values.tolist()]
                 codes = np.arange(len(cells))

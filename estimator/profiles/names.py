@@ -624,8 +624,10 @@ def is_species_like(text: str) -> bool:
         return True
     if _PROPERTY_UNIT.search(" " + re.sub(r"[_/]+", " ", folded)):
         return False
-    try:
-        canonical_species(text)
+    try:  # as canonical_species, without building the message of close matches
+        key = _canonical(text, split=True)
     except UnknownSpeciesError:
+        key = None
+    if key is None:
         return _looks_fatty(re.findall(r"[a-z]+|\d+", folded))
     return True

@@ -382,6 +382,8 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
                 inside &= ~mask
 
             def spread_of(rows, base=base, t=t, mname=mname, values=values):
+                if len(rows) == n:  # every row (rows is arange(n)): no copies
+                    return spread_of_methods(base, w, desc, t, known={mname: values})
                 sub = {k: np.asarray(v)[rows] for k, v in desc.items()}
                 return spread_of_methods(base, w[rows], sub, t, known={mname: values[rows]})
 
