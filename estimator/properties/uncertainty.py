@@ -200,7 +200,7 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
     for name, items in by_rule.items():
         keys = [k for k, _ in items]
         gp = np.column_stack([g for _, g in items])
-        stacks.append((keys, _MIXING_RULES[name][1], gp, w @ gp / 100.0,
+        stacks.append((keys, _MIXING_RULES[name][1], gp / 100.0, w @ gp / 100.0,
                        np.column_stack([base[k] for k in keys]),
                        np.zeros((w.shape[0], len(keys)))))
     ruled = {k for keys, *_ in stacks for k in keys}
@@ -208,22 +208,38 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
     rest = [k for k in base if k not in ruled]
     species_step = getattr(evaluate, "species_step", None)
     total = w.sum(axis=1)
+    buffer = []  # one stepped composition at a time: the memory is reused
     for j in np.flatnonzero((sd > 0).any(axis=0)):
         h = sd[:, j]
         shrink = (100.0 / (100.0 + h))[:, None]
-        for _, ginv, gp, mean, values, acc in stacks:
+        for _, ginv, gp100, mean, values, acc in stacks:
             with np.errstate(all="ignore"):
-                d = ginv(shrink * (mean + h[:, None] * gp[j] / 100.0)) - values
-            acc += np.where(np.isfinite(d), d * d, 0.0)
+                x = h[:, None] * gp100[j]
+                x += mean
+                x *= shrink
+                d = ginv(x)
+                d -= values
+                d *= d
+            if np.isfinite(d).all():
+                acc += d
+            else:
+                acc += np.where(np.isfinite(d), d, 0.0)
         if not rest:
             continue
         rows = np.flatnonzero(h > 0)  # elsewhere the step is zero
 
         def stepped(rows=rows, j=j, h=h):
             # w with h more of species j, renormalised to 100
-            factor = 100.0 / (total[rows] + h[rows])
-            step = w[rows] * factor[:, None]
-            step[:, j] += h[rows] * factor
+            if len(rows) < len(w):
+                factor = 100.0 / (total[rows] + h[rows])
+                step = w[rows] * factor[:, None]
+                step[:, j] += h[rows] * factor
+                return step
+            if not buffer:
+                buffer.append(np.empty_like(w))
+            factor = 100.0 / (total + h)
+            step = np.multiply(w, factor[:, None], out=buffer[0])
+            step[:, j] += h * factor
             return step
 
         if species_step is not None:
