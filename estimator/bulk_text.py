@@ -263,7 +263,8 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
         return None
     if not columns:
         return b"\n" * n
-    parts: list[np.ndarray] = []
+    # pieces of a row, in order: ("numbers", values, first) or ("bytes", matrix)
+    pieces: list[tuple] = []
     # a separator before every cell but the first; consecutive number columns are
     # formatted as one block
     i = 0
@@ -275,7 +276,7 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
                 j += 1
             block = [np.asarray(columns[k][1], dtype=float) for k in range(i, j)]
             values = np.column_stack(block) if len(block) > 1 else block[0][:, None]
-            parts.append(number_fields(values, sep, first=i == 0))
+            pieces.append(("numbers", values, i == 0))
         else:
             if kind == "text":
                 cells, codes = data
@@ -283,9 +284,19 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
                     return None
                 data = text_fields(cells, np.asarray(codes))
             if i:
-                parts.append(np.full((n, 1), ord(sep), np.uint8))
-            parts.append(data)
+                pieces.append(("bytes", np.full((n, 1), ord(sep), np.uint8)))
+            pieces.append(("bytes", data))
         i = j
-    parts.append(np.full((n, 1), ord("\n"), np.uint8))
-    flat = np.concatenate(parts, axis=1).reshape(-1)
-    return flat[flat != 0].tobytes()
+    pieces.append(("bytes", np.full((n, 1), ord("\n"), np.uint8)))
+    out = []
+    for start in range(0, n, _ROWS):  # a few thousand rows at a time: cache-sized matrices
+        rows = slice(start, start + _ROWS)
+        parts = [number_fields(p[1][rows], sep, first=p[2]) if p[0] == "numbers" else p[1][rows]
+                 for p in pieces]
+        flat = np.concatenate(parts, axis=1).reshape(-1)
+        out.append(flat[flat != 0].tobytes())
+    return b"".join(out)
+
+
+#: Rows laid out at a time by :func:`body_bytes`.
+_ROWS = 2048
