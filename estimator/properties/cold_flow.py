@@ -631,7 +631,8 @@ class Imahara2006Steps:
         self._b = GAS_CONSTANT_J_MOL_K / (dh * 1000.0)
         with np.errstate(divide="ignore", invalid="ignore"):
             ln_x = np.log(x, out=np.full(x.shape, -np.inf), where=x > 0)
-            self._inv_t = self._a - self._b * ln_x  # +inf for an absent ester
+            # one row per ester (the minimum over esters is then over the first axis)
+            self._inv_t = np.ascontiguousarray((self._a - self._b * ln_x).T)  # inf: absent
         self._present = (x > 0).any(axis=1)
         self._column = {int(k): c for c, k in enumerate(idx)}
 
@@ -640,12 +641,17 @@ class Imahara2006Steps:
         h = np.asarray(h, dtype=float)
         with np.errstate(divide="ignore", invalid="ignore"):
             total = self._moles + h * self._inv_m[species]
-            inv_t = self._inv_t - self._b * np.log(self._moles / total)[:, None]
-            present = self._present
+            shift = np.log(self._moles / total)
             c = self._column.get(int(species))
-            if c is not None:
-                xj = (self._w_sat[:, c] + h) * self._inv_m[species] / total
-                inv_t[:, c] = np.where(xj > 0, self._a[c] - self._b[c] * np.log(xj), np.inf)
-                present = present | (xj > 0)
-            cloud = 1.0 / inv_t.min(axis=1, initial=np.inf) - ZERO_CELSIUS_K
+            present = self._present
+            lowest = np.full(len(total), np.inf)
+            for i, (inv_t, b) in enumerate(zip(self._inv_t, self._b, strict=True)):
+                if i == c:
+                    xj = (self._w_sat[:, c] + h) * self._inv_m[species] / total
+                    moved = np.where(xj > 0, self._a[c] - b * np.log(xj), np.inf)
+                    present = present | (xj > 0)
+                else:
+                    moved = inv_t - b * shift
+                np.minimum(lowest, moved, out=lowest)
+            cloud = 1.0 / lowest - ZERO_CELSIUS_K
         return np.where(present, cloud, np.nan)

@@ -292,6 +292,24 @@ class _LazyDescriptors(Mapping):
         return len(self._all())
 
 
+class _RowsOf(Mapping):
+    """Some rows of every descriptor, each taken on first access."""
+
+    def __init__(self, desc: Mapping[str, np.ndarray], rows: np.ndarray) -> None:
+        self._desc, self._rows, self._taken = desc, rows, {}
+
+    def __getitem__(self, key: str) -> np.ndarray:
+        if key not in self._taken:
+            self._taken[key] = np.asarray(self._desc[key])[self._rows]
+        return self._taken[key]
+
+    def __iter__(self):
+        return iter(self._desc)
+
+    def __len__(self) -> int:
+        return len(self._desc)
+
+
 @dataclass(frozen=True)
 class _Block:
     """One property estimated by one method for every sample."""
@@ -384,8 +402,8 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
             def spread_of(rows, base=base, t=t, mname=mname, values=values):
                 if len(rows) == n:  # every row (rows is arange(n)): no copies
                     return spread_of_methods(base, w, desc, t, known={mname: values})
-                sub = {k: np.asarray(v)[rows] for k, v in desc.items()}
-                return spread_of_methods(base, w[rows], sub, t, known={mname: values[rows]})
+                return spread_of_methods(base, w[rows], _RowsOf(desc, rows), t,
+                                         known={mname: values[rows]})
 
             err, err_text = _method_error(m, base, values, inside, w, desc, t, spread_of)
             if (name, mname) in comp_sd:

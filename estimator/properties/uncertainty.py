@@ -575,12 +575,18 @@ def spread_of_methods(prop: str, w: np.ndarray, desc: Mapping[str, np.ndarray],
     known = known or {}
     ms = [m for m in methods_for(prop).values() if names is None or m.name in names]
     with np.errstate(all="ignore"):
-        stack = np.column_stack([
-            np.asarray(known[m.name], dtype=float) if m.name in known
-            else m.evaluate(w, desc, temperature_C) for m in ms])
-    ok = np.isfinite(stack)
-    count = ok.sum(axis=1)
-    safe = np.maximum(count, 1)
-    mean = np.where(ok, stack, 0.0).sum(axis=1) / safe
-    var = np.where(ok, (stack - mean[:, None]) ** 2, 0.0).sum(axis=1) / safe
+        columns = [np.asarray(known[m.name], dtype=float) if m.name in known
+                   else m.evaluate(w, desc, temperature_C) for m in ms]
+        # method by method (few methods, many samples): sums in the order of the methods
+        oks = [np.isfinite(c) for c in columns]
+        count = np.sum(oks, axis=0)
+        safe = np.maximum(count, 1)
+        total = np.zeros(len(count))
+        for c, ok in zip(columns, oks, strict=True):
+            total += np.where(ok, c, 0.0)
+        mean = total / safe
+        square = np.zeros(len(count))
+        for c, ok in zip(columns, oks, strict=True):
+            square += np.where(ok, (c - mean) ** 2, 0.0)
+        var = square / safe
     return np.where(count >= 2, np.sqrt(var), np.nan)
