@@ -350,6 +350,8 @@ def _print_ranking(result, *, short: bool) -> None:
         click.echo(f"  {row['sample']}: {parts}")
     notes = [(s, n) for s, n in zip(r["sample"], r["notes"]) if n]
     if notes:
+        from estimator.report.labels import for_readers
+
         click.echo("\nnotes:")
         for sample, text in notes:
-            click.echo(f"  {sample}: {text}")
+            click.echo(f"  {sample}: {for_readers(text)}")

@@ -144,7 +144,9 @@ def peaks(peak_files, reference, sheet, internal_standard, window_min, solvent_c
         click.echo(f"  {sample}: " + ", ".join(f"{n} {s}" for s, n in row.items() if n))
     notes = [(s, n) for s, n in zip(table["sample"], table["notes"]) if n]
     if notes:
+        from estimator.report.labels import for_readers
+
         click.echo("\nnotes:")
         for sample, text in notes:
-            click.echo(f"  {sample}: {text}")
+            click.echo(f"  {sample}: {for_readers(text)}")
     click.echo("\n'-o FILE' writes the peak-by-peak identification table too.\n" + footer)

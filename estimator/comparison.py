@@ -304,44 +304,54 @@ def _bands_out(verdicts: pd.DataFrame) -> np.ndarray:
 def _decisions(verdicts: pd.DataFrame, samples: Sequence[str],
                costs: ProcessCosts) -> pd.DataFrame:
     """Per lot: ranking group, (un)fixable failures, bands out, treatment cost."""
-    v = verdicts.assign(_bands=_bands_out(verdicts))
-    fixable = v["property"].isin(list(FIXABLE_BY_TREATMENT)).to_numpy()
-    fails = (v["verdict"] == "fails").to_numpy()
-    doubtful = fails | (v["verdict"] == "too close to call").to_numpy()
+    v = verdicts.assign(_bands=_bands_out(verdicts)).reset_index(drop=True)
+    fixable_all = v["property"].isin(list(FIXABLE_BY_TREATMENT)).to_numpy()
+    verdict_all = v["verdict"].astype(str).to_numpy()
+    props_all = v["property"].astype(str).to_numpy()
+    bands_all = v["_bands"].to_numpy(dtype=float)
     has_p = "probability_meets" in v.columns
+    p_all = v["probability_meets"].to_numpy(dtype=float) if has_p else None
+    # row positions of each lot, found once (a scan per lot is quadratic in the lots)
+    where = {str(k): idx for k, idx in v.groupby("sample", sort=False).indices.items()}
+    empty = np.array([], dtype=int)
+
+    def labels(props: np.ndarray) -> str:
+        return ", ".join(dict.fromkeys(specs.PROPERTY_LABELS.get(p, p) for p in props))
+
     rows = []
     for sample in samples:
-        mine = (v["sample"] == sample).to_numpy()
-        unfix = mine & fails & ~fixable
-        fix = mine & fails & fixable
-        treat = mine & doubtful & fixable
-        labels = lambda m: ", ".join(dict.fromkeys(  # noqa: E731
-            specs.PROPERTY_LABELS.get(p, p) for p in v.loc[m, "property"]))
+        at = where.get(str(sample), empty)
+        verdict, props, fixable = verdict_all[at], props_all[at], fixable_all[at]
+        fails = verdict == "fails"
+        doubtful = fails | (verdict == "too close to call")
+        unfix = fails & ~fixable
+        fix = fails & fixable
+        treat = doubtful & fixable
         cost = costs.antioxidant_cost_per_t_fuel if treat.any() else 0.0
-        treatments = dict.fromkeys(FIXABLE_BY_TREATMENT[p] for p in v.loc[fix, "property"])
-        fix_text = labels(fix)
+        treatments = dict.fromkeys(FIXABLE_BY_TREATMENT[p] for p in props[fix])
+        fix_text = labels(props[fix])
         if fix_text:
             fix_text += (f" (by {', '.join(treatments)}; assumed {cost:g} per t of fuel)")
-        verdict = v.loc[mine, "verdict"]
+        mine = np.ones(len(at), dtype=bool)
         if unfix.any():
             decision, relevant = DECISIONS[4], unfix
         elif fix.any():
             decision, relevant = DECISIONS[3], fix
         elif (verdict == "not estimated").any():
             decision, relevant = DECISIONS[2], mine
-        elif verdict.isin(["too close to call", "outside method range"]).any():
+        elif np.isin(verdict, ["too close to call", "outside method range"]).any():
             # an estimate outside its method's range never "meets"
             decision, relevant = DECISIONS[1], mine
         else:
             decision, relevant = DECISIONS[0], mine
-        bands = v.loc[relevant, "_bands"].to_numpy(dtype=float)
-        row = {"sample": sample, "decision": decision, "unfixable_failures": labels(unfix),
+        bands = bands_all[at][relevant]
+        row = {"sample": sample, "decision": decision, "unfixable_failures": labels(props[unfix]),
                "fixable_failures": fix_text,
                "bands_out": float(np.nanmax(bands)) if np.isfinite(bands).any()
                or np.isinf(bands).any() else np.nan,
                "treatment_cost_per_t_fuel": cost}
         if has_p:
-            p = v.loc[relevant, "probability_meets"].to_numpy(dtype=float)
+            p = p_all[at][relevant]
             row["probability_meets"] = float(np.nanmin(p)) if (~np.isnan(p)).any() else np.nan
         rows.append(row)
     return pd.DataFrame(rows)

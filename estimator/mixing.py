@@ -355,6 +355,8 @@ class MixResult:
     diagnosis: pd.DataFrame | None = None
     notes: list[str] = field(default_factory=list)
     margin_bands: float = 0.0
+    #: The specification the mix is held inside (None: only the user's own limits).
+    spec: str | None = None
     #: The processing costs used (None: the defaults of :mod:`estimator.sourcing`).
     costs: object = None
     #: Properties a lab model gave (``property -> how``), for the report.
@@ -547,6 +549,7 @@ def _solve(profile, model, constraints, valued, cost, yields, avail, notes, w_lo
     result = _finish(profile, problem, valued, shares, feasible, message, solver, hows, demand_t,
                      avail, notes, spec, climate_class, diagnosis=diagnosis, models=models)
     result.margin_bands = float(margin_bands)
+    result.spec = spec
     if not feasible and margin_bands > 0 and diagnosis is not None:
         result.message = result.message.replace(
             "meets", f"stays {margin_bands:g} stated error(s) inside every limit of", 1) + (
@@ -585,8 +588,10 @@ def _with_margin(constraints: Sequence[Constraint], errors: Mapping[str, float],
 
 
 def _infeasible_message(diagnosis: pd.DataFrame, spec: str | None) -> str:
+    from estimator.comparison import SPEC_LABELS
+
     missed = diagnosis[diagnosis["miss"] > 0]
-    what = f"meets {spec}" if spec else "meets every limit"
+    what = f"meets {SPEC_LABELS.get(spec, spec)}" if spec else "meets every limit"
     parts = []
     for row in missed.itertuples(index=False):
         extra = (" (no lot or mix reaches it)" if not row.reachable_alone else

@@ -157,7 +157,7 @@ def test_mix_infeasible_prints_the_report_and_exits_1():
     assert result.exit_code == 1
     assert "No mix of the lots meets every limit. Least-violating mix:" in result.stdout
     assert "CFPP <= -15 °C" in result.stdout
-    assert result.stderr.startswith("fame-estimator: no mix of the lots meets en14214: "
+    assert result.stderr.startswith("fame-estimator: no mix of the lots meets EN 14214: "
                                     "least-violating mix: CFPP <= -15 °C missed by ")
 
 

@@ -263,3 +263,14 @@ def test_mix_and_blend_take_a_lab_model(lab_model):
                   "--model", str(lab_model))
     assert blended.exit_code == 0, blended.output
     assert "oxidation_stability_110C_h (lab model" in blended.output
+
+
+def test_compare_notes_name_methods_in_words_not_keys():
+    # the demo's tallow lot lies outside the fitted domains of the CFPP and Rancimat methods
+    result = run(compare, str(LOTS), "--basis", "fatty-acid", "--climate-class", "C")
+    assert result.exit_code == 0, result.output
+    notes = result.output.split("\nnotes:", 1)[1]
+    assert "Ramos et al. 2009" in notes
+    for key in ("ramos2009", "park2008_bape", "cfpp_C", "oxidation_stability_110C_h",
+                "water_hydrolysis_max_loss_t_per_t_oil"):
+        assert key not in notes

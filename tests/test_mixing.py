@@ -211,7 +211,7 @@ def test_infeasible_limit_is_reported_with_how_far_the_best_mix_misses_it():
     assert not row["reachable_alone"] and row["miss"] > 0
     # the best any lot reaches is rapeseed-like LCSF: CFPP -30 is out of reach of Ramos 2009
     assert result.message.startswith(
-        "no mix of the lots meets en14214: least-violating mix: CFPP <= -30 °C missed by ")
+        "no mix of the lots meets EN 14214: least-violating mix: CFPP <= -30 °C missed by ")
     assert result.message.endswith("°C (no lot or mix reaches it)")
 
 

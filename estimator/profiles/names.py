@@ -589,6 +589,10 @@ def _looks_fatty(tokens: list[str]) -> bool:
     return False
 
 
+#: A cell that is a number (``12.5``, ``-3``, ``1,2e-3``, ``10.5 %``): never a species name.
+_NUMBER_LIKE = re.compile(r"[+-]?(\d+([.,]\d*)?|[.,]\d+)(e[+-]?\d+)?\s*%?")
+
+
 def is_species_like(text: str) -> bool:
     """Tell whether a column header looks like a species name, known or not.
 
@@ -615,7 +619,7 @@ def is_species_like(text: str) -> bool:
     >>> is_species_like("ffa_wt_pct"), is_species_like("cloud_point_C")
     (False, False)
     """
-    if not isinstance(text, str):
+    if not isinstance(text, str) or _NUMBER_LIKE.fullmatch(text.strip().lower()):
         return False
     folded = _fold(text)
     if not folded:
@@ -624,10 +628,11 @@ def is_species_like(text: str) -> bool:
         return True
     if _PROPERTY_UNIT.search(" " + re.sub(r"[_/]+", " ", folded)):
         return False
-    try:  # as canonical_species, without building the message of close matches
-        key = _canonical(text, split=True)
+    # _canonical, not canonical_species: the error message's close-match search
+    # (difflib) is the slow part, and a header search asks this of every cell
+    try:
+        if _canonical(text, split=True) is not None:
+            return True
     except UnknownSpeciesError:
-        key = None
-    if key is None:
-        return _looks_fatty(re.findall(r"[a-z]+|\d+", folded))
-    return True
+        pass
+    return _looks_fatty(re.findall(r"[a-z]+|\d+", folded))

@@ -540,17 +540,25 @@ def fit_properties(
     scheme: str = "auto",
     progress: Progress | None = None,
 ) -> list[PropertyFit]:
-    """:func:`fit_property` for each property, in order (duplicates refused)."""
+    """:func:`fit_property` for each property, in order (duplicates refused).
+
+    Properties are fitted in parallel worker processes when the machine has the cores
+    (:mod:`estimator.refit.parallel`); the results are the same either way.
+    """
     if not properties:
         raise UsageError("give at least one --property to fit")
     dup = [p for i, p in enumerate(properties) if p in properties[:i]]
     if dup:
         raise UsageError(f"--property {dup[0]} is given twice")
-    return [
-        fit_property(profile, p, seed=seed, tolerance=tolerance, min_samples=min_samples,
-                     scheme=scheme, progress=progress)
-        for p in properties
-    ]
+    from estimator.refit.parallel import run_jobs
+
+    def one(prop: str, tick: Progress | None) -> PropertyFit:
+        return fit_property(profile, prop, seed=seed, tolerance=tolerance,
+                            min_samples=min_samples, scheme=scheme, progress=tick)
+
+    # the properties share nothing: on two or more cores they run side by side
+    # (forked workers; the results do not depend on how many)
+    return run_jobs(one, list(properties), progress=progress)
 
 
 def total_fits(profile: Profile, properties: Sequence[str], scheme: str = "auto") -> int:

@@ -57,7 +57,7 @@ def blend_sections(
     levels : sequence of float, optional
         Levels shown in the table (default: every level of ``wide``).
     """
-    from estimator.blending import BLEND_METHODS, RULE_ERRORS
+    from estimator.blending import BLEND_METHODS, RULE_ERRORS, RULE_WORDS
     from estimator.cautions import CAUTION_SHORT
 
     sections = []
@@ -105,7 +105,7 @@ def blend_sections(
         err = f"{100 * size:g} %" if kind == "relative" else f"{size:g}"
         for i, m in enumerate(methods):
             rows.append({"property": column_label(prop, unit=False),
-                         "mixing rule": for_readers(m.replace("_", " ")),
+                         "mixing rule": RULE_WORDS.get(m, for_readers(m.replace("_", " "))),
                          "default": i == 0, "rule error at B50": err})
     sections.append(Section("Blend methods", paragraph(
         "Component errors (the FAME's from its estimate, the diesel's from its description) "

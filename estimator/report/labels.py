@@ -293,6 +293,9 @@ def _word_pattern() -> re.Pattern:
 
 
 _CANDIDATE = re.compile(r"(?<![\w:])(?:recalibrated|published|gp|ridge|pls\d?):[A-Za-z]\w*")
+#: A lab model's method key, ``fit:<candidate>`` (as the estimate tables carry it).
+_FIT_CANDIDATE = re.compile(r"(?<![\w:])fit:((?:recalibrated|published|gp|ridge|pls\d?)"
+                            r":[A-Za-z]\w*)")
 _NOTE_FILES = re.compile(r"\b(?:shared/reference/)?(?:correlations|standards|gc|reference_libs)"
                          r"\.md(?:\s+[\d.]+(?:\s*\([\d.]+\))?)?:?\s*")
 _SOURCE_TAGS = re.compile(r"\s*(?:\[S\d+\])+")
@@ -313,10 +316,13 @@ def for_readers(text: str) -> str:
     --------
     >>> for_readers("cfpp_C: outside ramos2009 domain (LCSF > 7 wt %)")
     'CFPP: outside the fitted domain of Ramos et al. 2009 (LCSF > 7 wt %)'
+    >>> for_readers("outside the fitted domain: cetane_number (fit:gp:descriptors)")
+    'outside the fitted domain: cetane number (lab model Gaussian process on the descriptors)'
     >>> for_readers("EN 14214:2012; EN 116; standards.md 1.2: grade ladder [S1][S2]")
     'EN 14214:2012; EN 116; grade ladder'
     """
     text = str(text)
+    text = _FIT_CANDIDATE.sub(lambda m: "lab model " + candidate_name(m.group(1)), text)
     text = _CANDIDATE.sub(lambda m: candidate_name(m.group(0)), text)
     text = text.replace(">=", "≥").replace("<=", "≤")
     text = _NOTE_FILES.sub("", text)

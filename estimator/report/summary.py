@@ -45,23 +45,34 @@ def lot_reasons(verdicts: pd.DataFrame) -> dict[str, tuple[list[str], list[str]]
     if verdicts is None or verdicts.empty:
         return out
     has_p = "probability_meets" in verdicts.columns
-    for lot, rows in verdicts.groupby("sample", sort=False):
-        fails, doubts = [], []
-        for word, bucket in (("fails", fails), ("too close to call", doubts)):
-            hit = rows[rows["verdict"].astype(str).map(_verdict_word) == word]
-            for prop, group in hit.groupby("property", sort=False):
-                first = group.iloc[0]
-                unit = pretty_unit(str(first.get("unit", "")))
-                value = plus_minus(first["estimate"], first.get("error", np.nan))
-                limits = "; ".join(
-                    f"{spec_name(s)} {_BOUND_WORD.get(b, b)} {float(v):g}"
-                    for s, b, v in zip(group["spec"], group["bound"], group["limit"]))
-                phrase = (f"{column_label(prop, unit=False)} {value}"
-                          f"{' ' + unit if unit else ''} ({limits})")
-                if has_p and pd.notna(first["probability_meets"]):
-                    phrase += f", {100 * float(first['probability_meets']):.0f} % chance it meets"
-                bucket.append(phrase)
-        out[str(lot)] = (fails, doubts)
+    for lot in verdicts["sample"].astype(str).unique():
+        out[lot] = ([], [])
+    words = verdicts["verdict"].astype(str).str.split(" (", n=1, regex=False).str[0]
+    words = words.str.split(";", n=1, regex=False).str[0].str.strip()
+    hit = verdicts[words.isin(["fails", "too close to call"]).to_numpy()]
+    if hit.empty:
+        return out
+    # the rows of one lot, verdict word and property, in the order they come (one pass;
+    # a groupby per lot is quadratic in thousands of lots)
+    groups: dict[tuple[str, str, str], list[dict]] = {}
+    records = hit.assign(_word=words[hit.index]).to_dict("records")
+    for row in records:
+        groups.setdefault((str(row["sample"]), row["_word"], row["property"]), []).append(row)
+    for word, slot in (("fails", 0), ("too close to call", 1)):
+        for (lot, w, prop), group in groups.items():
+            if w != word:
+                continue
+            first = group[0]
+            unit = pretty_unit(str(first.get("unit", "")))
+            value = plus_minus(first["estimate"], first.get("error", np.nan))
+            limits = "; ".join(
+                f"{spec_name(g['spec'])} {_BOUND_WORD.get(g['bound'], g['bound'])} "
+                f"{float(g['limit']):g}" for g in group)
+            phrase = (f"{column_label(prop, unit=False)} {value}"
+                      f"{' ' + unit if unit else ''} ({limits})")
+            if has_p and pd.notna(first["probability_meets"]):
+                phrase += f", {100 * float(first['probability_meets']):.0f} % chance it meets"
+            out[lot][slot].append(phrase)
     return out
 
 
@@ -174,6 +185,20 @@ def _mix_html(mix) -> str:
         binding = [for_readers(str(x)) for x in c.loc[c["binding"].astype(bool), "constraint"]]
     text = (f"<p><strong>Cost {mix.cost_per_t_fuel:,.1f} per t of fuel</strong> "
             f"for the mix {html.escape(', '.join(parts))} (shares of the fuel's mass).")
+    held = []
+    if getattr(mix, "spec", None):
+        held.append(f"every limit of {spec_name(mix.spec)}")
+    if "source" in c.columns:
+        own = [for_readers(str(x)) for x in c.loc[c["source"].astype(str) == "user",
+                                                  "constraint"]]
+        if own:
+            held.append(f"your own targets ({'; '.join(own)})")
+    if held:
+        margin = getattr(mix, "margin_bands", 0.0)
+        sentence = (f" It is held inside {' and '.join(held)}"
+                    + (f", each by at least {margin:g} stated errors" if margin > 0 else "")
+                    + ".")
+        text += html.escape(sentence)
     if binding:
         text += f" Limits that set the mix: {html.escape('; '.join(binding))}."
     return text + "</p>"

@@ -77,6 +77,11 @@ def test_report_command_writes_one_report_with_every_part(tmp_path):
     assert "lab_model_fit_report/report.html" in parser.links
     assert parser.images >= 6
     assert "Estimates, not certification" in result.output
+    # the summary names what the mix is held inside, and by what margin
+    spec = {"astm-d6751": "ASTM D6751", "en14214": "EN 14214"}[data["mix"]["spec"]]
+    html_text = (out / "report.html").read_text(encoding="utf-8")
+    assert f"It is held inside every limit of {spec}" in html_text
+    assert f"each by at least {data['mix']['margin_bands']:g} stated errors" in html_text
 
 
 def test_report_takes_a_lab_model_and_says_which_properties_came_from_it(tmp_path):
