@@ -12,8 +12,8 @@ errors, so the CLI, ``report/`` and ``refit/`` all write through it.
   :func:`atomic_write` checks them too.
 * :func:`write_table` and :class:`TableWriter` write CSV, TSV, JSON and XLSX. Numbers
   are written with :data:`SIGNIFICANT_DIGITS` significant digits, NaN as an empty
-  cell (``null`` in JSON); CSV/TSV text is formatted in bulk, by pyarrow when it is
-  installed, else by plain Python (the same bytes either way).
+  cell (``null`` in JSON); CSV/TSV text is laid out in bulk by NumPy
+  (:mod:`estimator.bulk_text`), the same bytes as formatting cell by cell.
 * Text cells that a spreadsheet would take for a formula (starting with ``=``, ``+``,
   ``-``, ``@``, tab or carriage return, and not a plain number) are written as text in
   XLSX and prefixed with ``'`` in CSV/TSV; numbers stay numbers.
@@ -40,6 +40,7 @@ import pandas as pd
 from estimator.bulk_text import (
     SIGNIFICANT_DIGITS,
     body_bytes,
+    number_fields,
     plain_text_fields,
     round_significant,
 )
@@ -393,8 +394,8 @@ def csv_text(frame: pd.DataFrame, *, sep: str = ",", header: bool = True,
     Numbers with :data:`SIGNIFICANT_DIGITS` significant digits in ``%g`` style, NaN as
     an empty cell, booleans as ``True``/``False``; text quoted where needed and
     prefixed with ``'`` when a spreadsheet would take it for a formula. ``fast``
-    chooses pyarrow (True), plain Python (False) or pyarrow when installed (None);
-    the bytes are the same.
+    chooses the bulk NumPy layout (None, the default), pyarrow (True) or plain Python
+    cell by cell (False); the bytes are the same.
 
     >>> csv_text(pd.DataFrame({"sample": ["=1+2", "a,b"], "x": [-1.0, float("nan")]}),
     ...          fast=False).decode()
@@ -462,11 +463,12 @@ def _sheet_title(name: str, used: set[str]) -> str:
 
 
 def _number_texts(values: np.ndarray) -> list[str]:
-    """Cell texts of numbers as in CSV ('' for NaN), by pyarrow when installed."""
-    arrow = _arrow()
-    if arrow is None:
-        return _float_cells(values)
-    return _arrow_numbers(np.asarray(values, dtype=float), *arrow).to_pylist()
+    """Cell texts of numbers as in CSV ('' for NaN), laid out in bulk."""
+    v = np.asarray(values, dtype=float).reshape(-1)
+    if not len(v):
+        return []
+    flat = number_fields(v[:, None], "\n").reshape(-1)  # each text after a line break
+    return flat[flat != 0].tobytes().decode("ascii").split("\n")[1:]
 
 
 def _check_xlsx_rows(frames: dict[str, pd.DataFrame]) -> None:

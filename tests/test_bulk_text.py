@@ -76,3 +76,12 @@ def test_empty_and_text_only_tables():
 def test_a_nul_byte_in_text_falls_back_to_the_cell_by_cell_writer():
     frame = pd.DataFrame({"a": ["x\0y", "z"], "b": [1.5, np.nan]})
     assert csv_text(frame) == csv_text(frame, fast=False) == b"a,b\nx\0y,1.5\nz,\n"
+
+
+def test_xlsx_number_texts_are_the_csv_cells():
+    # regression test: the bulk texts that the XLSX writer stores against Python's '%.6g'
+    from estimator.files import _float_cells, _number_texts
+
+    values = np.concatenate([_edge_values(), _random_values(3000, 5)])
+    assert _number_texts(values) == _float_cells(values)
+    assert _number_texts(np.array([])) == []
