@@ -182,7 +182,7 @@ def _number_words(v: np.ndarray, lead_base: np.ndarray, words: np.ndarray, sep: 
         m[carry] = 1e5
         d -= carry
     fixed = candidate & (d >= 0)  # 999999.7 rounds to 1e+06
-    d[~fixed] = 0
+    d *= fixed
     hi = np.floor(m * 1e-3)  # m < 1e6: exact after the floor
     lo = (m - hi * 1e3).astype(np.intp)
     hi = hi.astype(np.intp)
@@ -192,13 +192,14 @@ def _number_words(v: np.ndarray, lead_base: np.ndarray, words: np.ndarray, sep: 
     w32 = words.view(np.uint32)  # (k, 4): lead, lead, upper digits, lower digits
     w32[:, 2] = hi_words[2 * d1000 + (lo == 0) * 1000 + hi]
     w32[:, 3] = lo_words[d1000 + lo]
-    if not fixed.all():
-        plain = ~fixed
+    plain = np.flatnonzero(~fixed)  # zero, NaN and the exponent forms: few, by index
+    if len(plain):
+        pv = v[plain]
         words[plain, 0] = lead[lead_base[plain]]  # the separator alone
-        w32[plain, 2:] = 0
-        w32[plain & (v == 0), 2] = zero_word
-        other = plain & (v != 0) & ~np.isnan(v)
-        if other.any():
+        w32[plain, 2] = np.where(pv == 0, zero_word, 0)
+        w32[plain, 3] = 0
+        other = plain[(pv != 0) & ~np.isnan(pv)]
+        if len(other):
             texts = [(sep if b else "") + f"{x:.6g}"
                      for x, b in zip(round_significant(v[other]).tolist(),
                                      lead_base[other].tolist(), strict=True)]
