@@ -454,20 +454,29 @@ def summarise(verdicts: pd.DataFrame) -> pd.DataFrame:
     """
     samples = list(dict.fromkeys(verdicts["sample"]))
     specs = list(dict.fromkeys(verdicts["spec"]))
-    out = pd.DataFrame(index=pd.Index(samples, name="sample"), columns=specs, dtype=object)
-    for (sample, spec), group in verdicts.groupby(["sample", "spec"], sort=False):
-        worst_by_prop: dict[str, str] = {}
-        for prop, verdict in zip(group["property"], group["verdict"]):
-            old = worst_by_prop.get(prop)
-            worst_by_prop[prop] = verdict if old is None else max(
-                old, verdict, key=_severity)
-        parts = []
-        for verdict in ("fails", "too close to call", "outside method range", "not estimated"):
-            props = [PROPERTY_LABELS.get(p, p) for p, v in worst_by_prop.items() if v == verdict]
-            if props:
-                parts.append(f"{verdict} ({', '.join(dict.fromkeys(props))})")
-        out.loc[sample, spec] = "; ".join(parts) if parts else "meets"
-    return out
+    # one pass over the rows (a groupby per sample and spec is slow for thousands of lots)
+    worst: dict[tuple, dict[str, str]] = {}
+    for sample, spec, prop, verdict in zip(verdicts["sample"], verdicts["spec"],
+                                           verdicts["property"], verdicts["verdict"]):
+        by_prop = worst.setdefault((sample, spec), {})
+        old = by_prop.get(prop)
+        by_prop[prop] = verdict if old is None else max(old, verdict, key=_severity)
+    cells: dict[str, list] = {spec: [] for spec in specs}
+    for spec in specs:
+        for sample in samples:
+            by_prop = worst.get((sample, spec))
+            if by_prop is None:
+                cells[spec].append(np.nan)
+                continue
+            parts = []
+            for verdict in ("fails", "too close to call", "outside method range",
+                            "not estimated"):
+                props = [PROPERTY_LABELS.get(p, p) for p, v in by_prop.items() if v == verdict]
+                if props:
+                    parts.append(f"{verdict} ({', '.join(dict.fromkeys(props))})")
+            cells[spec].append("; ".join(parts) if parts else "meets")
+    return pd.DataFrame(cells, index=pd.Index(samples, name="sample"), columns=specs,
+                        dtype=object)
 
 
 def _severity(verdict: str) -> int:
