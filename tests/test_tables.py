@@ -268,7 +268,7 @@ FINGERPRINTS = {
         {"carbons": 561.0, "double_bonds": 47.0, "trans": 1.0, "hydroxyl": 1.0,
          "acid_molar_mass_g_mol": 8814.33, "fame_molar_mass_g_mol": 9263.194,
          "allylic_positions": 40.0, "bis_allylic_positions": 25.0, "cetane_number": 774.8,
-         "melting_point_C": 162.2, "enthalpy_fusion_kJ_mol": 616.2,
+         "melting_point_C": 152.6, "enthalpy_fusion_kJ_mol": 616.2,
          "kin_viscosity_40C_mm2_s": 62.68, "hhv_MJ_kg": 584.062}),
     "feedstocks": (22, [
         "oil", "feedstock", "C8:0", "C10:0", "C12:0", "C14:0", "C16:0", "C16:1", "C18:0",

@@ -354,8 +354,8 @@ def saturated_ester_data():
 
     Notes
     -----
-    Melting points: CRC Handbook via chemicals 1.5.2 (VERIFIED [S29]); C15:0
-    and C17:0 interpolated (DERIVED). Enthalpies of fusion: C16:0 55.0 and
+    Melting points: CRC Handbook via chemicals 1.5.2 (VERIFIED [S29]), C24:0
+    from CAS Common Chemistry in the same library. Enthalpies of fusion: C16:0 55.0 and
     C18:0 64.0 kJ/mol **MEMORY**; the others DERIVED by a 4.5 kJ/mol CH2
     increment (``fusion_source`` in ``species.csv``). Methyl elaidate: CRC
     melting point (VERIFIED [S29]) and an enthalpy of fusion DERIVED from
@@ -375,7 +375,7 @@ def saturated_ester_data():
     >>> from estimator.tables import species_keys
     >>> idx, tm, dh = saturated_ester_data()
     >>> [species_keys()[i] for i in idx][:3], float(tm[2]), float(dh[2])
-    (['C12:0', 'C14:0', 'C15:0'], 24.3, 50.5)
+    (['C12:0', 'C14:0', 'C15:0'], 19.0, 50.5)
     """
     idx, tm, dh = _saturated_ester_data()
     return idx.copy(), tm.copy(), dh.copy()

@@ -59,7 +59,8 @@ def test_no_saturated_ester_gives_nan_cloud_point():
     [("C8:0", "111-11-5"), ("C10:0", "110-42-9"), ("C12:0", "111-82-0"), ("C14:0", "124-10-7"),
      ("C16:0", "112-39-0"), ("C18:0", "112-61-8"), ("C18:1", "112-62-9"), ("C18:2", "112-63-0"),
      ("C18:3", "301-00-8"), ("C20:0", "1120-28-1"), ("C22:0", "929-77-1"),
-     ("C22:1", "1120-34-9"), ("C18:1t", "1937-62-8")],
+     ("C22:1", "1120-34-9"), ("C18:1t", "1937-62-8"), ("C15:0", "7132-64-1"),
+     ("C17:0", "1731-92-6")],
 )
 def test_melting_points_are_the_crc_values_in_chemicals(key, cas):
     pytest.importorskip("chemicals")
@@ -72,6 +73,19 @@ def test_melting_points_are_the_crc_values_in_chemicals(key, cas):
     assert species_table().loc[key, "melting_point_C"] == pytest.approx(crc, abs=0.051)
 
 
+@pytest.mark.reference
+def test_lignocerate_melting_point_is_the_cas_common_chemistry_value_in_chemicals():
+    pytest.importorskip("chemicals")
+    from chemicals.phase_change import Tm
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # pandas-3 noise from chemicals' loader
+        tm = Tm("2442-49-1", method="COMMON_CHEMISTRY") - 273.15
+    # CAS Common Chemistry via chemicals 1.5.2, the only measured source there (VERIFIED
+    # [S29]); reference_libs.md Table 2 rates it "ok" (57-60 degC in the literature)
+    assert species_table().loc["C24:0", "melting_point_C"] == pytest.approx(tm, abs=0.051)
+
+
 def test_thermodynamic_data_cover_saturated_c12_to_c24_and_elaidate():
     idx, tm, dh = cold_flow.saturated_ester_data()
     covered = {KEYS[i] for i in idx}
@@ -82,13 +96,18 @@ def test_thermodynamic_data_cover_saturated_c12_to_c24_and_elaidate():
     idx = np.array([i for i in idx if KEYS[i] in sat])
     tm, dh = species_column("melting_point_C")[idx], species_column("enthalpy_fusion_kJ_mol")[idx]
     order = np.argsort(species_column("carbons")[idx])
-    assert (np.diff(dh[order]) > 0).all() and (np.diff(tm[order]) > 0).all()
+    # melting points never fall with chain length; odd chains melt low (CRC: C15:0 19.0 =
+    # C14:0 19.0 degC), so only the even chains rise strictly
+    assert (np.diff(dh[order]) > 0).all() and (np.diff(tm[order]) >= 0).all()
+    even = species_column("carbons")[idx][order] % 2 == 0
+    assert (np.diff(tm[order][even]) > 0).all()
 
 
+@pytest.mark.reference
 def test_gas_constant_is_the_codata_value():
-    # CODATA 2018 (exact in the 2019 SI: N_A k), R = 8.314462618 J/(mol K) (from memory)
-    assert cold_flow.GAS_CONSTANT_J_MOL_K == pytest.approx(6.02214076e23 * 1.380649e-23,
-                                                           rel=1e-9)
+    # CODATA value as shipped in scipy.constants (exact in the 2019 SI: N_A k)
+    constants = pytest.importorskip("scipy.constants")
+    assert cold_flow.GAS_CONSTANT_J_MOL_K == pytest.approx(constants.R, rel=1e-9)
 
 
 @pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
@@ -163,6 +182,7 @@ def _with(w: np.ndarray, added: dict[str, float]) -> np.ndarray:
     return 100.0 * w / w.sum()
 
 
+@pytest.mark.regression  # a behaviour guard (issue 9); its thresholds are our model's numbers
 def test_cloud_point_is_robust_to_half_percent_traces_of_long_chain_esters():
     base = _cp(_soybean())
     assert _cp(_with(_soybean(), {"C20:0": 0.25, "C22:0": 0.25})) == pytest.approx(base, abs=0.1)

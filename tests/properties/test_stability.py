@@ -119,6 +119,7 @@ def test_park2008_treats_a_vanishing_linoleate_content_as_zero():
 
 
 # ----------------------------------------------------------------- park2008_bape
+@pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation
 def test_park2008_bape_scale_is_the_least_squares_fit_to_park_on_its_blends():
     # regression: re-derives the DERIVED constant A from Park's curve over the ternary blends
     # (10 % steps) of the built-in palm, rapeseed and soybean profiles

@@ -131,6 +131,7 @@ def test_polyunsaturated_viscosity_knothe2012_default_within_tolerance(key, publ
     assert not rv.in_domain(w, descriptors(w))[0]
 
 
+@pytest.mark.memory  # the EN 14214 Annex B slope is recalled
 def test_en14214_density_slope_moves_rv2012_between_temperatures():
     # EN 14214 Annex B, rho15 = rho_t + 0.723 (t - 15) (MEMORY, correlations.md 7.4)
     w = comp(SOY_REF)
@@ -178,6 +179,7 @@ def test_density_and_viscosity_fall_with_temperature(xs, t, dt):
             assert warm < cold, (prop, m.name)
 
 
+@pytest.mark.memory  # the reference note's own evaluation of recalled equations
 @pytest.mark.parametrize(
     ("key", "published"),
     # correlations.md 8.1, Krisnangkura 2006 column (the reference note's own evaluation of

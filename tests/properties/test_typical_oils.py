@@ -14,6 +14,9 @@ import pytest
 from estimator.profiles.profile import Profile
 from estimator.properties.predict import estimate_wide
 
+# most ranges are recalled or common practice: plausibility guards, not outside references
+pytestmark = pytest.mark.memory
+
 ALLOWANCE = {"cetane_number": 6.0, "cloud_point_C": 4.0, "cfpp_C": 5.0, "pour_point_C": 4.0,
              "oxidation_stability_110C_h": 3.0}
 INF = float("inf")
