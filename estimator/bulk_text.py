@@ -2,8 +2,8 @@
 
 A low-level helper of :mod:`estimator.files` (it imports nothing from ``estimator``).
 Every cell becomes a fixed-width field of bytes, padded with NUL bytes; a row is its
-fields side by side, each followed by the separator (the last by a newline); the body
-is the matrix with the NUL bytes dropped. Numbers are formatted with array arithmetic,
+fields side by side, each after a separator (the first excepted), then a newline; the
+body is the matrix with the NUL bytes dropped. Numbers are formatted with array arithmetic,
 not one Python call per cell, and give the same text as ``"%.6g" % value`` of the
 value rounded to six significant digits, about 15 times faster than formatting cell by
 cell (a whole ``predict`` table, text and layout included: about 4 times). Text
