@@ -543,14 +543,14 @@ def fit_properties(
     """:func:`fit_property` for each property, in order (duplicates refused).
 
     Properties are fitted in parallel worker processes when the machine has the cores
-    (:mod:`estimator.refit.parallel`); the results are the same either way.
+    (:mod:`estimator.parallel`); the results are the same either way.
     """
     if not properties:
         raise UsageError("give at least one --property to fit")
     dup = [p for i, p in enumerate(properties) if p in properties[:i]]
     if dup:
         raise UsageError(f"--property {dup[0]} is given twice")
-    from estimator.refit.parallel import run_jobs
+    from estimator.parallel import run_jobs
 
     def one(prop: str, tick: Progress | None) -> PropertyFit:
         return fit_property(profile, prop, seed=seed, tolerance=tolerance,

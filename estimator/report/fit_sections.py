@@ -168,7 +168,7 @@ def write_fit_report(fits: Sequence, model_path: str | Path, *, table: pd.DataFr
     from estimator.files import write_table
     from estimator.report.fit_plots import fit_figures
     from estimator.report.html import build_report
-    from estimator.report.plots import save_figure
+    from estimator.report.plots import prerender, save_figure
 
     model_path = Path(model_path)
     folder = report_folder(model_path)
@@ -177,10 +177,11 @@ def write_fit_report(fits: Sequence, model_path: str | Path, *, table: pd.DataFr
     figures = {}
     for f in fits:
         fit_groups = None if groups is None else [str(groups.get(s, "")) for s in f.samples]
-        figs = fit_figures(f, groups=fit_groups)
+        figures[f.property] = fit_figures(f, groups=fit_groups)
+    prerender([fig for figs in figures.values() for fig in figs.values()])
+    for prop, figs in figures.items():
         for kind, fig in figs.items():
-            save_figure(fig, folder / f"{f.property}_{kind}", svg=svg)
-        figures[f.property] = figs
+            save_figure(fig, folder / f"{prop}_{kind}", svg=svg)
     build_report(
         "Refit on lab samples", fit_sections(fits, figures, source=source,
                                              model_file=model_path.name),

@@ -562,7 +562,7 @@ def write_comparison(
     from estimator.cautions import CAUTION_SHORT
     from estimator.comparison import SPEC_LABELS
     from estimator.files import check_outputs, write_table
-    from estimator.report.plots import comparison_figures, save_figure
+    from estimator.report.plots import comparison_figures, prerender, save_figure
 
     outdir = Path(outdir)
     if plots is None:
@@ -584,6 +584,7 @@ def write_comparison(
         "cautions": pd.DataFrame({"caution": [CAUTION]}),
     }
     written["xlsx"] = write_table(comparison.ranked, outdir / "comparison.xlsx", sheets=sheets)
+    prerender([p.figure for p in plots])
     written["plots"] = [path for p in plots for path in save_figure(
         p.figure, outdir / "plots" / p.name, svg=svg)]
     specs_text = ", ".join(SPEC_LABELS.get(s, s) for s in comparison.specs)

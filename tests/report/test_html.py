@@ -237,6 +237,7 @@ def test_write_comparison_draws_each_figure_once_and_svg_on_request(demo, tmp_pa
 
     monkeypatch.setattr(FigureCanvasAgg, "draw", counting_draw)
     monkeypatch.setattr(Figure, "savefig", counting_savefig)
+    monkeypatch.setenv("FAME_ESTIMATOR_WORKERS", "1")  # count the draws in this process
     written = report.write_comparison(comparison, tmp_path / "out", plots=plots, svg=True)
     assert sorted(draws) == sorted(id(p.figure) for p in plots)  # one raster each
     assert sorted(svgs) == sorted(id(p.figure) for p in plots)

@@ -156,3 +156,27 @@ def test_estimates_outside_their_fitted_domain_get_open_markers():
     assert faces[(12.0, 0.0)] == (1.0, 1.0, 1.0, 1.0)  # the 'out' lot: open (white)
     assert faces[(10.0, 1.0)] != (1.0, 1.0, 1.0, 1.0)  # the 'in' lot: filled
     assert "open marker: outside fitted domain" in _legend_texts(fig)
+
+
+def test_figures_drawn_side_by_side_give_the_same_pngs_as_drawn_here(monkeypatch):
+    # regression test: forked workers draw the same pixels
+    import matplotlib.pyplot as plt
+
+    def figures():
+        out = []
+        for k in range(3):
+            fig, ax = plt.subplots(figsize=(4, 3))
+            ax.plot([0, 1, 2], [k, k + 1, k * 2])
+            ax.set_title(f"figure {k}")
+            out.append(fig)
+        return out
+
+    here = figures()
+    monkeypatch.setenv("FAME_ESTIMATOR_WORKERS", "1")
+    expected = [plots.figure_png(f) for f in here]
+    forked = figures()
+    monkeypatch.setenv("FAME_ESTIMATOR_WORKERS", "2")
+    plots.prerender(forked)
+    assert [f.__dict__["_fame_png"][plots.PNG_DPI] for f in forked] == expected
+    for f in here + forked:
+        plt.close(f)

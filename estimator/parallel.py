@@ -1,17 +1,18 @@
-"""Run independent refit jobs (one per property) in forked worker processes.
+"""Run independent jobs (refits of properties, figures to draw) in forked workers.
 
 The refits of two properties share nothing, and a refit is almost all small,
 single-threaded scikit-learn fits (BLAS is held to one thread, see
-:func:`estimator.refit.candidates.single_threaded_blas`), so on a machine with two
-or more cores the properties run side by side. Workers are *forked*: they inherit
-the already imported scikit-learn and the job's inputs, so nothing is imported or
-pickled twice; only the results travel back. A shared counter carries the workers'
-progress to the parent's progress bar.
+:func:`estimator.refit.candidates.single_threaded_blas`); the figures of a report
+are drawn one by one by Agg. On a machine with two or more cores such jobs run side
+by side. Workers are *forked*: they inherit the already imported libraries and the
+job's inputs, so nothing is imported or pickled twice; only the results travel back.
+A shared counter carries the workers' progress to the parent's progress bar.
 
 Results do not depend on the number of workers: every fit is seeded by the job,
-never by the process. Where forking is unavailable (not POSIX), inside a daemonic
-process, with one usable core, with one job, or when ``FAME_ESTIMATOR_WORKERS=1``,
-the jobs run one after the other in this process.
+never by the process, and a figure's pixels do not depend on where it is drawn.
+Where forking is unavailable (not POSIX), inside a daemonic process, with one
+usable core, with one job, or when ``FAME_ESTIMATOR_WORKERS=1``, the jobs run one
+after the other in this process.
 """
 
 from __future__ import annotations

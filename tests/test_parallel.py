@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from estimator import parallel
 from estimator.errors import InputFileError
-from estimator.refit import parallel
-from estimator.refit.parallel import run_jobs, worker_count
+from estimator.parallel import run_jobs, worker_count
 
 
 def _square(item: int, tick) -> int:
