@@ -12,8 +12,8 @@ errors, so the CLI, ``report/`` and ``refit/`` all write through it.
   :func:`atomic_write` checks them too.
 * :func:`write_table` and :class:`TableWriter` write CSV, TSV, JSON and XLSX. Numbers
   are written with :data:`SIGNIFICANT_DIGITS` significant digits, NaN as an empty
-  cell (``null`` in JSON); CSV/TSV text is formatted in bulk, by pyarrow when it is
-  installed, else by plain Python (the same bytes either way).
+  cell (``null`` in JSON); CSV/TSV text is laid out in bulk by NumPy
+  (:mod:`estimator.bulk_text`), the same bytes as formatting cell by cell.
 * Text cells that a spreadsheet would take for a formula (starting with ``=``, ``+``,
   ``-``, ``@``, tab or carriage return, and not a plain number) are written as text in
   XLSX and prefixed with ``'`` in CSV/TSV; numbers stay numbers.
@@ -37,6 +37,13 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from estimator.bulk_text import (
+    SIGNIFICANT_DIGITS,
+    body_bytes,
+    number_fields,
+    plain_text_fields,
+    round_significant,
+)
 from estimator.errors import InputFileError, UsageError
 
 __all__ = [
@@ -47,8 +54,6 @@ __all__ = [
 
 #: Output suffixes :func:`write_table` understands.
 TABLE_SUFFIXES = (".csv", ".tsv", ".xlsx", ".json")
-#: Significant digits of every number written to CSV, TSV, JSON and XLSX.
-SIGNIFICANT_DIGITS = 6
 #: Rows of one XLSX sheet, header included (the file format's limit; also
 #: ``estimator.xlsx.MAX_ROWS``).
 XLSX_MAX_ROWS = 1_048_576
@@ -215,40 +220,6 @@ def atomic_write(path: str | Path, writer: Callable[[Path], None]) -> Path:
 
 
 # ------------------------------------------------------------------ numbers and text cells
-def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
-    """Round each value to ``digits`` significant digits (NaN and inf kept, no ``-0``).
-
-    >>> round_significant([59.644137, -0.000123456789, 0.0, -0.0, 1234567.0]).tolist()
-    [59.6441, -0.000123457, 0.0, 0.0, 1234570.0]
-    >>> float(round_significant(2.0 / 3.0))
-    0.666667
-    """
-    given = np.asarray(values, dtype=float)
-    a = given.reshape(-1)
-    out = a + 0.0  # also turns -0.0 into 0.0
-    nz = np.isfinite(a) & (a != 0)
-    x = a[nz] if not nz.all() else a
-    if not len(x):
-        return out.reshape(given.shape)
-    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-        d = (digits - 1) - np.floor(np.log10(np.abs(x)))
-        # scale by an exact power of ten (up to 1e22), so that m / 10**d is the
-        # double nearest the decimal m * 10**-d
-        p = np.power(10.0, np.minimum(np.abs(d), 308.0))
-        up = d >= 0
-        r = np.empty_like(x)
-        np.multiply(x, p, out=r, where=up)
-        np.divide(x, p, out=r, where=~up)
-        np.rint(r, out=r)
-        np.divide(r, p, out=r, where=up)
-        np.multiply(r, p, out=r, where=~up)
-    bad = ~np.isfinite(r)
-    if bad.any():
-        r[bad] = x[bad]
-    out[nz] = r + 0.0
-    return out.reshape(given.shape)
-
-
 def _formula_like(text: str) -> bool:
     return bool(text) and text[0] in FORMULA_START and not _NUMBER.match(text.strip())
 
@@ -305,6 +276,7 @@ def _header(columns: Sequence, sep: str) -> str:
 
 
 def _body_python(frame: pd.DataFrame, sep: str) -> str:
+    """The body cell by cell (the plain reference the bulk path is tested against)."""
     cols = []
     for name in frame.columns:
         s = frame[name]
@@ -318,6 +290,35 @@ def _body_python(frame: pd.DataFrame, sep: str) -> str:
     if not cols:
         return "\n" * len(frame)
     return "".join(sep.join(row) + "\n" for row in zip(*cols, strict=True))
+
+
+def _body_bulk(frame: pd.DataFrame, sep: str) -> bytes | None:
+    """The same bytes as :func:`_body_python`, laid out in bulk (:mod:`estimator.bulk_text`)."""
+    columns = []
+    for name in frame.columns:
+        s = frame[name]
+        kind = _column_kind(s)
+        if kind == "float":
+            columns.append(("float", s.to_numpy(dtype=float, na_value=np.nan)))
+            continue
+        if kind in ("int", "bool"):
+            codes, uniques = pd.factorize(s.to_numpy())
+            cells = [str(v).encode("utf-8") for v in uniques.tolist()]
+        else:
+            values = s.to_numpy(dtype=object)
+            if pd.api.types.infer_dtype(values, skipna=True) in ("string", "empty"):
+                codes, uniques = pd.factorize(values)
+                texts = uniques.tolist()
+                fields = plain_text_fields(texts, codes, sep, lambda t: _text_cell(t, sep))
+                if fields is not None:
+                    columns.append(("fields", fields))
+                    continue
+                cells = [_text_cell(u, sep).encode("utf-8") for u in texts]
+            else:
+                cells = [_object_cell(v, sep).encode("utf-8") for v in values.tolist()]
+                codes = np.arange(len(cells))
+        columns.append(("text", (cells, codes)))
+    return body_bytes(columns, len(frame), sep)
 
 
 def _arrow():
@@ -393,17 +394,21 @@ def csv_text(frame: pd.DataFrame, *, sep: str = ",", header: bool = True,
     Numbers with :data:`SIGNIFICANT_DIGITS` significant digits in ``%g`` style, NaN as
     an empty cell, booleans as ``True``/``False``; text quoted where needed and
     prefixed with ``'`` when a spreadsheet would take it for a formula. ``fast``
-    chooses pyarrow (True), plain Python (False) or pyarrow when installed (None);
-    the bytes are the same.
+    chooses the bulk NumPy layout (None, the default), pyarrow (True) or plain Python
+    cell by cell (False); the bytes are the same.
 
     >>> csv_text(pd.DataFrame({"sample": ["=1+2", "a,b"], "x": [-1.0, float("nan")]}),
     ...          fast=False).decode()
     'sample,x\\n\\'=1+2,-1\\n"a,b",\\n'
     """
-    arrow = _arrow() if fast is not False else None
+    head = _header(frame.columns, sep).encode("utf-8") if header else b""
+    if fast is None and len(frame):
+        body = _body_bulk(frame, sep)
+        if body is not None:
+            return head + body
+    arrow = _arrow() if fast else None
     if fast and arrow is None:
         raise ImportError("pyarrow is not installed")
-    head = _header(frame.columns, sep).encode("utf-8") if header else b""
     if arrow is not None and len(frame):
         return head + _body_arrow(frame, sep, arrow)
     return head + _body_python(frame, sep).encode("utf-8")
@@ -458,11 +463,12 @@ def _sheet_title(name: str, used: set[str]) -> str:
 
 
 def _number_texts(values: np.ndarray) -> list[str]:
-    """Cell texts of numbers as in CSV ('' for NaN), by pyarrow when installed."""
-    arrow = _arrow()
-    if arrow is None:
-        return _float_cells(values)
-    return _arrow_numbers(np.asarray(values, dtype=float), *arrow).to_pylist()
+    """Cell texts of numbers as in CSV ('' for NaN), laid out in bulk."""
+    v = np.asarray(values, dtype=float).reshape(-1)
+    if not len(v):
+        return []
+    flat = number_fields(v[:, None], "\n").reshape(-1)  # each text after a line break
+    return flat[flat != 0].tobytes().decode("ascii").split("\n")[1:]
 
 
 def _check_xlsx_rows(frames: dict[str, pd.DataFrame]) -> None:

@@ -117,20 +117,29 @@ def machine() -> str:
 
 
 def breakdown(path: Path, out: Path) -> str:
-    """Times of the parts of one predict run, in this process."""
-    from estimator.files import write_table
-    from estimator.profiles.io import read_profile
+    """Times of the parts of one predict run in this process, in pieces as the command runs."""
+    from estimator.files import TableWriter
+    from estimator.predict_files import CHUNK_ROWS
+    from estimator.profiles.io import read_profile_chunks
     from estimator.workflows import predict
 
-    t0 = time.perf_counter()
-    profile = read_profile(path)
-    t1 = time.perf_counter()
-    table = predict(profile).wide
-    t2 = time.perf_counter()
-    write_table(table, out)
-    t3 = time.perf_counter()
-    return (f"  in one process: read + check {t1 - t0:.2f} s, estimate {t2 - t1:.2f} s, "
-            f"write CSV {t3 - t2:.2f} s")
+    read = estimate = write = 0.0
+    with TableWriter(out) as writer:
+        pieces = read_profile_chunks(path, chunk_rows=CHUNK_ROWS)
+        while True:
+            t0 = time.perf_counter()
+            part = next(pieces, None)
+            t1 = time.perf_counter()
+            read += t1 - t0
+            if part is None:
+                break
+            table = predict(part).wide
+            t2 = time.perf_counter()
+            writer.write(table)
+            write += time.perf_counter() - t2
+            estimate += t2 - t1
+    return (f"  in one process, in pieces of {CHUNK_ROWS:,}: read + check {read:.2f} s, "
+            f"estimate {estimate:.2f} s, write CSV {write:.2f} s")
 
 
 def main() -> None:

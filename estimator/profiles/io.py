@@ -562,7 +562,7 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns,
         if sample_col is not None:
             meta_cols.remove(sample_col)
     if sample_col is not None:
-        ids = table[sample_col].map(_sample_id)
+        ids = _sample_ids(table[sample_col])
         blank = ids == ""
         if blank.any():
             i = int(np.argmax(blank.to_numpy()))
@@ -595,6 +595,15 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns,
         composition, basis=basis, sum_tolerance=sum_tolerance, other=other, metadata=meta,
         source=label, rows=rows,
     )
+
+
+def _sample_ids(column: pd.Series) -> pd.Series:
+    """:func:`_sample_id` of every cell; a column of text in one pass."""
+    values = column.to_numpy(dtype=object)
+    if pd.api.types.infer_dtype(values, skipna=False) == "string":
+        return pd.Series([v.strip() for v in values.tolist()], index=column.index,
+                         name=column.name)
+    return column.map(_sample_id)
 
 
 def _sample_id(value) -> str:

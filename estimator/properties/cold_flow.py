@@ -17,6 +17,7 @@ from estimator.tables import species_column
 
 __all__ = [
     "GAS_CONSTANT_J_MOL_K",
+    "Imahara2006Steps",
     "cfpp_from_cloud_point",
     "cfpp_from_cloud_point_offset",
     "ideal_solubility_temperature_C",
@@ -575,3 +576,82 @@ def saturated_mole_fractions(wt_pct):
     # only the saturated columns: the total moles are one matrix-vector product
     x = w[:, idx] * inv_m[idx] / (w @ inv_m)[:, None]
     return x, tm.copy(), dh.copy()
+
+
+class Imahara2006Steps:
+    r"""The :func:`imahara2006` cloud point of profiles after raising one species.
+
+    For the linearised composition uncertainty: ``step(j, h)`` is the cloud point of
+    each profile with ``h`` wt % more of species ``j`` (then renormalised, which
+    leaves mole fractions unchanged), without recomputing every mole fraction:
+
+    .. math::
+
+        \ln x_i' = \ln x_i + \ln\frac{S}{S + h/M_j}\ (i \ne j),\qquad
+        x_j' = \frac{(w_j + h)/M_j}{S + h/M_j},\qquad S = \sum_k w_k/M_k
+
+    Parameters
+    ----------
+    wt_pct : array_like
+        Composition, shape ``(n_samples, n_species)``. [wt %]
+
+    Notes
+    -----
+    The same ideal-solubility equation as :func:`ideal_solubility_temperature_C`
+    (form **MEMORY**); equal to :func:`imahara2006` of the stepped profile to
+    floating-point rounding (a test compares them). The cloud point is the largest
+    :math:`T_i`, i.e. the smallest :math:`1/T_i`.
+
+    References
+    ----------
+    .. [1] Imahara H., Minami E., Saka S., Fuel 85 (2006) 1666-1670 (from
+       memory).
+
+    Examples
+    --------
+    >>> from estimator.tables import species_keys
+    >>> keys = species_keys()
+    >>> w = np.zeros((1, len(keys)))
+    >>> w[0, keys.index("C16:0")] = 20.0; w[0, keys.index("C18:1")] = 80.0
+    >>> steps = Imahara2006Steps(w)
+    >>> moved = w.copy(); moved[0, keys.index("C16:0")] += 1.0
+    >>> direct = imahara2006(*saturated_mole_fractions(moved))
+    >>> bool(np.isclose(steps.step(keys.index("C16:0"), np.array([1.0]))[0], direct[0]))
+    True
+    """
+
+    def __init__(self, wt_pct) -> None:
+        idx, tm, dh = _saturated_ester_data()
+        w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
+        self._inv_m = 1.0 / species_column("fame_molar_mass_g_mol")
+        self._moles = w @ self._inv_m
+        self._w_sat = w[:, idx]
+        x = self._w_sat * self._inv_m[idx] / self._moles[:, None]
+        self._a = 1.0 / (tm + ZERO_CELSIUS_K)
+        self._b = GAS_CONSTANT_J_MOL_K / (dh * 1000.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ln_x = np.log(x, out=np.full(x.shape, -np.inf), where=x > 0)
+            # one row per ester (the minimum over esters is then over the first axis)
+            self._inv_t = np.ascontiguousarray((self._a - self._b * ln_x).T)  # inf: absent
+        self._present = (x > 0).any(axis=1)
+        self._column = {int(k): c for c, k in enumerate(idx)}
+
+    def step(self, species: int, h: np.ndarray) -> np.ndarray:
+        """Cloud point [degC] with ``h`` (per profile) [wt %] more of column ``species``."""
+        h = np.asarray(h, dtype=float)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            total = self._moles + h * self._inv_m[species]
+            shift = np.log(self._moles / total)
+            c = self._column.get(int(species))
+            present = self._present
+            lowest = np.full(len(total), np.inf)
+            for i, (inv_t, b) in enumerate(zip(self._inv_t, self._b, strict=True)):
+                if i == c:
+                    xj = (self._w_sat[:, c] + h) * self._inv_m[species] / total
+                    moved = np.where(xj > 0, self._a[c] - b * np.log(xj), np.inf)
+                    present = present | (xj > 0)
+                else:
+                    moved = inv_t - b * shift
+                np.minimum(lowest, moved, out=lowest)
+            cloud = 1.0 / lowest - ZERO_CELSIUS_K
+        return np.where(present, cloud, np.nan)

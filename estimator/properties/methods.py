@@ -306,6 +306,12 @@ def _iv_aocs(w, d, t=None):
 #: Key under which a caller may pass the already computed ideal-solubility cloud point in
 #: ``desc`` (predict does, so the CFPP-from-cloud-point method does not compute it again).
 CLOUD_POINT_KEY = "_imahara2006_cloud_point_C"
+#: (property, method) pairs that read the composition only through that cloud point.
+CLOUD_POINT_METHODS = frozenset({
+    ("cloud_point_C", "imahara2006"),
+    ("pour_point_C", "sarin2009_from_cloud_point"),
+    ("cfpp_C", "from_cloud_point"),
+})
 
 
 def _cp_imahara2006(w, d, t=None):

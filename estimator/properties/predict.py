@@ -26,9 +26,11 @@ import numpy as np
 import pandas as pd
 
 from estimator.errors import ProfileError, UnknownNameError, UsageError
+from estimator.properties.cold_flow import Imahara2006Steps
 from estimator.properties.descriptors import DESCRIPTOR_UNITS, descriptors
 from estimator.properties.methods import (
     CLOUD_POINT_KEY,
+    CLOUD_POINT_METHODS,
     DEFAULTS,
     PROPERTIES,
     Method,
@@ -86,7 +88,7 @@ def _validate(wt_pct, samples) -> tuple[np.ndarray, np.ndarray]:
         if extra:
             raise ProfileError(f"unknown species columns: {', '.join(map(str, extra))}")
         wt_pct = wt_pct.reindex(columns=keys, fill_value=0.0) if missing else wt_pct[list(keys)]
-    w = np.asarray(wt_pct, dtype=float)
+    w = np.ascontiguousarray(wt_pct, dtype=float)  # row-wise steps read rows
     if w.ndim != 2 or w.shape[1] != len(keys):
         raise ProfileError(f"wt_pct must have shape (n_samples, {len(keys)}), got {w.shape}")
     ids = np.empty(len(samples), dtype=object)
@@ -266,6 +268,7 @@ class _LazyDescriptors(Mapping):
     def __init__(self, w: np.ndarray) -> None:
         self._w = w
         self._d: dict[str, np.ndarray] | None = None
+        self._cloud: np.ndarray | None = None
 
     def _all(self) -> dict[str, np.ndarray]:
         if self._d is None:
@@ -273,6 +276,11 @@ class _LazyDescriptors(Mapping):
         return self._d
 
     def __getitem__(self, key: str) -> np.ndarray:
+        if key == CLOUD_POINT_KEY:  # computed once, shared by the methods built on it
+            if self._cloud is None:
+                self._cloud = methods_for("cloud_point_C")[DEFAULTS["cloud_point_C"]].evaluate(
+                    self._w, {})
+            return self._cloud
         if key not in DESCRIPTOR_UNITS:
             raise KeyError(key)  # e.g. a cache key some wrapper looks for: not computed here
         return self._all()[key]
@@ -282,6 +290,24 @@ class _LazyDescriptors(Mapping):
 
     def __len__(self) -> int:
         return len(self._all())
+
+
+class _RowsOf(Mapping):
+    """Some rows of every descriptor, each taken on first access."""
+
+    def __init__(self, desc: Mapping[str, np.ndarray], rows: np.ndarray) -> None:
+        self._desc, self._rows, self._taken = desc, rows, {}
+
+    def __getitem__(self, key: str) -> np.ndarray:
+        if key not in self._taken:
+            self._taken[key] = np.asarray(self._desc[key])[self._rows]
+        return self._taken[key]
+
+    def __iter__(self):
+        return iter(self._desc)
+
+    def __len__(self) -> int:
+        return len(self._desc)
 
 
 @dataclass(frozen=True)
@@ -332,6 +358,27 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
             with np.errstate(all="ignore"):
                 return {key: methods_for(keyed[key][0])[key[1]].evaluate(ww, dd, keyed[key][1])
                         for key in (keyed if names is None else names)}
+
+        cloud_steps = []  # built on first use
+
+        def species_step(j, h, rows, names, stepped):
+            # methods that see the composition only through the ideal-solubility cloud
+            # point move with it: one cloud point per species step, for all of them
+            via_cloud = [k for k in names if (keyed[k][0], k[1]) in CLOUD_POINT_METHODS]
+            out = evaluate_all(stepped(), [k for k in names if k not in via_cloud])
+            if via_cloud:
+                if not cloud_steps:
+                    cloud_steps.append(Imahara2006Steps(w))
+                sub = {CLOUD_POINT_KEY: cloud_steps[0].step(j, h)[rows]}
+                # they read only the cloud point (and the number of rows) from here
+                blind = np.broadcast_to(np.nan, (len(rows), w.shape[1]))
+                with np.errstate(all="ignore"):
+                    for key in via_cloud:
+                        base_prop, t = keyed[key]
+                        out[key] = methods_for(base_prop)[key[1]].evaluate(blind, sub, t)
+            return out
+
+        evaluate_all.species_step = species_step
         comp_sd = composition_sd(evaluate_all, w, gc, base={k: evaluated[k] for k in keyed})
 
     blocks = []
@@ -353,8 +400,10 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
                 inside &= ~mask
 
             def spread_of(rows, base=base, t=t, mname=mname, values=values):
-                sub = {k: np.asarray(v)[rows] for k, v in desc.items()}
-                return spread_of_methods(base, w[rows], sub, t, known={mname: values[rows]})
+                if len(rows) == n:  # every row (rows is arange(n)): no copies
+                    return spread_of_methods(base, w, desc, t, known={mname: values})
+                return spread_of_methods(base, w[rows], _RowsOf(desc, rows), t,
+                                         known={mname: values[rows]})
 
             err, err_text = _method_error(m, base, values, inside, w, desc, t, spread_of)
             if (name, mname) in comp_sd:

@@ -163,7 +163,7 @@ _MIXING_RULES = {
 
 
 def _mixing_rule(fp: np.ndarray, w: np.ndarray, v: np.ndarray):
-    """(g, g^-1, g(fp)) of the rule the values follow on these rows, or None."""
+    """(name, g(fp)) of the rule the values follow on these rows, or None."""
     if not (np.isfinite(fp).all() and np.isfinite(v).all()):
         return None
     scale = max(float(np.max(np.abs(v), initial=0.0)), 1.0)
@@ -173,8 +173,9 @@ def _mixing_rule(fp: np.ndarray, w: np.ndarray, v: np.ndarray):
         gp = g(fp)
         with np.errstate(all="ignore"):
             pred = ginv(w @ gp / 100.0)
-        if np.allclose(pred, v, rtol=0.0, atol=1e-9 * scale):
-            return g, ginv, gp
+            off = np.abs(pred - v)
+        if not len(v) or off.max() <= 1e-9 * scale:  # NaN never passes
+            return name, gp
     return None
 
 
@@ -183,32 +184,75 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
 
     A method that is a mixing rule of its pure-ester values (checked here, on these
     rows: linear, logarithmic or reciprocal mass-weighted mean) is moved exactly
-    through those values instead of being evaluated once more per species.
+    through those values instead of being evaluated once more per species (all
+    methods of one rule at once). The others are evaluated on the rows that hold
+    the species, through ``evaluate.species_step`` when the callable has one.
     """
     n_species = w.shape[1]
     pure = evaluate(100.0 * np.eye(n_species))
-    rules = {}
+    by_rule: dict[str, list[tuple[str, np.ndarray]]] = {}
     for k, v in base.items():
         rule = _mixing_rule(np.asarray(pure[k], dtype=float), w, v)
         if rule is not None:
-            g, ginv, gp = rule
-            rules[k] = (ginv, gp, w @ gp / 100.0)
-    var = {k: np.zeros_like(v) for k, v in base.items()}
-    rest = [k for k in base if k not in rules]
+            by_rule.setdefault(rule[0], []).append((k, rule[1]))
+    # per rule: the keys, g of their pure-ester values (n_species, m), the weighted means
+    # of g (n, m) and the base values (n, m)
+    stacks = []
+    for name, items in by_rule.items():
+        keys = [k for k, _ in items]
+        gp = np.column_stack([g for _, g in items])
+        stacks.append((keys, _MIXING_RULES[name][1], gp / 100.0, w @ gp / 100.0,
+                       np.column_stack([base[k] for k in keys]),
+                       np.zeros((w.shape[0], len(keys)))))
+    ruled = {k for keys, *_ in stacks for k in keys}
+    var = {k: np.zeros_like(v) for k, v in base.items() if k not in ruled}
+    rest = [k for k in base if k not in ruled]
+    species_step = getattr(evaluate, "species_step", None)
+    total = w.sum(axis=1)
+    buffer = []  # one stepped composition at a time: the memory is reused
     for j in np.flatnonzero((sd > 0).any(axis=0)):
         h = sd[:, j]
-        shrink = 100.0 / (100.0 + h)
-        for k, (ginv, gp, mean) in rules.items():
+        shrink = (100.0 / (100.0 + h))[:, None]
+        for _, ginv, gp100, mean, values, acc in stacks:
             with np.errstate(all="ignore"):
-                d = ginv(shrink * (mean + h * gp[j] / 100.0)) - base[k]
-            var[k] += np.where(np.isfinite(d), d * d, 0.0)
-        if rest:
-            step = w.copy()
-            step[:, j] += h
-            moved = evaluate(_renormalise(step), rest)
-            for k in rest:
-                d = np.asarray(moved[k], dtype=float) - base[k]
-                var[k] += np.where(np.isfinite(d), d * d, 0.0)
+                x = h[:, None] * gp100[j]
+                x += mean
+                x *= shrink
+                d = ginv(x)
+                d -= values
+                d *= d
+            if np.isfinite(d).all():
+                acc += d
+            else:
+                acc += np.where(np.isfinite(d), d, 0.0)
+        if not rest:
+            continue
+        rows = np.flatnonzero(h > 0)  # elsewhere the step is zero
+
+        def stepped(rows=rows, j=j, h=h):
+            # w with h more of species j, renormalised to 100
+            if len(rows) < len(w):
+                factor = 100.0 / (total[rows] + h[rows])
+                step = w[rows] * factor[:, None]
+                step[:, j] += h[rows] * factor
+                return step
+            if not buffer:
+                buffer.append(np.empty_like(w))
+            factor = 100.0 / (total + h)
+            step = np.multiply(w, factor[:, None], out=buffer[0])
+            step[:, j] += h * factor
+            return step
+
+        if species_step is not None:
+            moved = species_step(j, h, rows, rest, stepped)
+        else:
+            moved = evaluate(stepped(), rest)
+        for k in rest:
+            d = np.asarray(moved[k], dtype=float) - base[k][rows]
+            var[k][rows] += np.where(np.isfinite(d), d * d, 0.0)
+    for keys, *_, acc in stacks:
+        for i, k in enumerate(keys):
+            var[k] = acc[:, i]
     return {k: np.where(np.isfinite(v), np.sqrt(var[k]), np.nan) for k, v in base.items()}
 
 
@@ -228,7 +272,10 @@ def composition_sd(
     ----------
     evaluate : callable
         ``evaluate(wt_pct, names=None) -> {name: values}`` for any number of rows;
-        ``names`` (optional) restricts the names evaluated.
+        ``names`` (optional) restricts the names evaluated. It may carry an attribute
+        ``species_step(j, h, rows, names, stepped)`` giving the values on ``rows`` of
+        the composition with ``h`` [wt %] more of species ``j``, renormalised (the
+        composition itself is ``stepped()``), when it knows a quicker way.
     wt_pct : ndarray, shape (n, n_species)
         FAME mass %, rows summing to 100. [wt %]
     gc : GCRepeatability
@@ -529,12 +576,18 @@ def spread_of_methods(prop: str, w: np.ndarray, desc: Mapping[str, np.ndarray],
     known = known or {}
     ms = [m for m in methods_for(prop).values() if names is None or m.name in names]
     with np.errstate(all="ignore"):
-        stack = np.column_stack([
-            np.asarray(known[m.name], dtype=float) if m.name in known
-            else m.evaluate(w, desc, temperature_C) for m in ms])
-    ok = np.isfinite(stack)
-    count = ok.sum(axis=1)
-    safe = np.maximum(count, 1)
-    mean = np.where(ok, stack, 0.0).sum(axis=1) / safe
-    var = np.where(ok, (stack - mean[:, None]) ** 2, 0.0).sum(axis=1) / safe
+        columns = [np.asarray(known[m.name], dtype=float) if m.name in known
+                   else m.evaluate(w, desc, temperature_C) for m in ms]
+        # method by method (few methods, many samples): sums in the order of the methods
+        oks = [np.isfinite(c) for c in columns]
+        count = np.sum(oks, axis=0)
+        safe = np.maximum(count, 1)
+        total = np.zeros(len(count))
+        for c, ok in zip(columns, oks, strict=True):
+            total += np.where(ok, c, 0.0)
+        mean = total / safe
+        square = np.zeros(len(count))
+        for c, ok in zip(columns, oks, strict=True):
+            square += np.where(ok, (c - mean) ** 2, 0.0)
+        var = square / safe
     return np.where(count >= 2, np.sqrt(var), np.nan)

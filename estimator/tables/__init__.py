@@ -42,5 +42,11 @@ def species_keys() -> tuple[str, ...]:
 
 def species_column(column: str) -> np.ndarray:
     """One numeric column of the species table as a float array in canonical order."""
+    return _species_column(column).copy()
 
-    return species_table()[column].to_numpy(dtype=float).copy()
+
+@cache
+def _species_column(column: str) -> np.ndarray:
+    values = species_table()[column].to_numpy(dtype=float).copy()
+    values.setflags(write=False)
+    return values

@@ -245,3 +245,27 @@ def test_default_pour_point_sees_stearate_and_palmitate_only_line_is_flagged_for
     assert palmitate_only.evaluate(more_stearate, descriptors(more_stearate))[0] < \
         palmitate_only.evaluate(tallow, d)[0]
     assert not palmitate_only.in_domain(tallow, d)[0]
+
+
+def test_cloud_point_steps_equal_the_cloud_point_of_the_stepped_profile():
+    # regression test: Imahara2006Steps against imahara2006 on each stepped profile
+    from estimator.properties.cold_flow import (
+        Imahara2006Steps,
+        imahara2006,
+        saturated_mole_fractions,
+    )
+    from estimator.tables import species_keys
+
+    keys = species_keys()
+    rng = np.random.default_rng(4)
+    w = rng.dirichlet(np.full(len(keys), 0.3), size=300) * 100
+    w[::7] = 0.0
+    w[::7, keys.index("C18:1")] = 100.0  # no saturated ester: NaN
+    steps = Imahara2006Steps(w)
+    for j in range(len(keys)):
+        h = np.where(w[:, j] > 0, np.maximum(0.015 * w[:, j], 0.05), 0.0)
+        moved = w.copy()
+        moved[:, j] += h
+        moved *= 100.0 / moved.sum(axis=1, keepdims=True)
+        direct = imahara2006(*saturated_mole_fractions(moved))
+        np.testing.assert_allclose(steps.step(j, h), direct, rtol=1e-12, atol=1e-9)

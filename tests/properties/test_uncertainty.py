@@ -222,3 +222,44 @@ def test_every_default_band_states_its_evidence():
         band = method_band(prop, name)
         assert band.text
         assert "correlations.md" not in band.text  # readers see author-year, not file names
+
+
+def _random_profiles(n: int, seed: int) -> np.ndarray:
+    rng = np.random.default_rng(seed)
+    w = np.zeros((n, len(KEYS)))
+    w[: n // 2] = rng.dirichlet(np.full(len(KEYS), 0.3), size=n // 2) * 100
+    for i in range(n // 2, n):
+        cols = rng.choice(len(KEYS), size=rng.integers(1, 6), replace=False)
+        w[i, cols] = rng.dirichlet(np.ones(len(cols))) * 100
+    return w
+
+
+def _per_species_sd(evaluate, w, gc=DEFAULT_GC, *, how="linear", base=None, **_):
+    """The plain finite difference: every method on every stepped, renormalised profile."""
+    base = evaluate(w) if base is None else base
+    sd = gc.sd(w)
+    var = {k: np.zeros(len(w)) for k in base}
+    for j in np.flatnonzero((sd > 0).any(axis=0)):
+        step = w.copy()
+        step[:, j] += sd[:, j]
+        moved = evaluate(step * (100.0 / step.sum(axis=1, keepdims=True)))
+        for k in base:
+            d = moved[k] - base[k]
+            var[k] += np.where(np.isfinite(d), d * d, 0.0)
+    return {k: np.where(np.isfinite(v), np.sqrt(var[k]), np.nan) for k, v in base.items()}
+
+
+@pytest.mark.parametrize("seed", [1, 2])
+def test_fast_composition_uncertainty_equals_the_per_species_finite_difference(seed,
+                                                                                monkeypatch):
+    # regression test: mixing-rule shortcuts, the cloud point moved once per species and
+    # the steps on present species only give the plain per-species result
+    from estimator.properties import predict as predict_module
+
+    w = _random_profiles(400, seed)
+    ids = [f"r{i}" for i in range(len(w))]
+    fast = estimate(w, ids, methods="all", temperatures_C=[-10, 20])
+    monkeypatch.setattr(predict_module, "composition_sd", _per_species_sd)
+    slow = estimate(w, ids, methods="all", temperatures_C=[-10, 20])
+    pd.testing.assert_frame_equal(fast.drop(columns="error"), slow.drop(columns="error"))
+    np.testing.assert_allclose(fast["error"], slow["error"], rtol=1e-9, atol=1e-12)
