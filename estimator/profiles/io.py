@@ -268,7 +268,10 @@ def _read_text(path: Path, find_header: bool = True) -> RawTable:
     seps = (";", "\t", ",")
     best = []
     for line in lines:
-        scored = [(_header_score(_split(line, s)), line.count(s), s) for s in seps]
+        # a separator the line lacks leaves one cell, never a header (two species-like
+        # cells); scoring the whole line as a name would only cost time
+        scored = [(_header_score(_split(line, s)) if s in line else 0, line.count(s), s)
+                  for s in seps]
         best.append(max(scored))
     header_index = _find_header([score for score, _, _ in best]) if find_header else 0
     header = lines[header_index]

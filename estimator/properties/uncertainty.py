@@ -391,7 +391,19 @@ def validation_table() -> pd.DataFrame:
 @cache
 def _validation_compositions() -> np.ndarray:
     comps = validation_table()["composition"]
-    parsed = {c: parse_composition(c) for c in dict.fromkeys(comps)}
+    unique = list(dict.fromkeys(comps))
+    # every built-in oil in one Profile (one conversion, not one per row)
+    oils = [c for c in unique if str(c).startswith("oil:")]
+    parsed: dict = {}
+    if oils:
+        from estimator.profiles.profile import Profile
+
+        try:
+            w = np.asarray(Profile.from_oils([c[4:] for c in oils]).wt_pct, dtype=float)
+            parsed.update(zip(oils, w))
+        except ValueError:  # two spellings of one oil: parse them one by one
+            pass
+    parsed.update({c: parse_composition(c) for c in unique if c not in parsed})
     out = np.vstack([parsed[c] for c in comps])
     out.setflags(write=False)
     return out
