@@ -151,18 +151,6 @@ RULE_ERRORS = {
     "cloud_point_C": ("absolute", 5.0),
     "cfpp_C": ("absolute", 8.0),
 }
-#: Each mixing rule in words, for readers (the report's table of blend methods).
-RULE_WORDS = {
-    "kay-volume": "linear by volume fraction (Kay 1936)",
-    "arrhenius-mass": "logarithmic by mass fraction (Arrhenius)",
-    "arrhenius-mole": "logarithmic by mole fraction (Arrhenius)",
-    "linear-volume": "linear by volume fraction",
-    "mass-weighted": "linear by mass fraction",
-    "volume-weighted": "linear by volume fraction",
-    "liquidus-or-linear": "higher of the esters' ideal-solubility liquidus and the linear rule",
-    "ideal-solubility": "ideal solubility of the saturated esters and the diesel's wax",
-    "cloud-gap": "blend cloud point less the volume-weighted cloud point-CFPP gap (ours)",
-}
 _NOTES = {
     "linear-volume": "approximate: linear by volume (common practice)",
     "cloud-gap": "empirical rule of ours: CFPP below the blend cloud point by the "

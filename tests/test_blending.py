@@ -491,10 +491,3 @@ def test_default_blend_cloud_point_never_credits_dilution_of_the_diesel_wax(oil)
     assert (cp >= linear - 1e-9).all()
     assert (cp >= min(cp_f, cp_d) - 1e-9).all()
 
-
-def test_every_mixing_rule_has_words_for_readers():
-    from estimator.blending import BLEND_METHODS, RULE_WORDS
-
-    rules = {m for methods in BLEND_METHODS.values() for m in methods}
-    assert rules <= set(RULE_WORDS)
-    assert all("-" not in RULE_WORDS[r].split(" (")[0].split()[0] for r in rules)

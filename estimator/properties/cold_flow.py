@@ -621,12 +621,12 @@ class Imahara2006Steps:
     """
 
     def __init__(self, wt_pct) -> None:
-        idx, tm, dh = _saturated_ester_data()
+        idx = _saturated_ester_data()[0]
         w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
+        x, tm, dh = saturated_mole_fractions(w)
         self._inv_m = 1.0 / species_column("fame_molar_mass_g_mol")
         self._moles = w @ self._inv_m
         self._w_sat = w[:, idx]
-        x = self._w_sat * self._inv_m[idx] / self._moles[:, None]
         self._a = 1.0 / (tm + ZERO_CELSIUS_K)
         self._b = GAS_CONSTANT_J_MOL_K / (dh * 1000.0)
         with np.errstate(divide="ignore", invalid="ignore"):

@@ -57,8 +57,9 @@ def blend_sections(
     levels : sequence of float, optional
         Levels shown in the table (default: every level of ``wide``).
     """
-    from estimator.blending import BLEND_METHODS, RULE_ERRORS, RULE_WORDS
+    from estimator.blending import BLEND_METHODS, RULE_ERRORS
     from estimator.cautions import CAUTION_SHORT
+    from estimator.report.labels import RULE_WORDS
 
     sections = []
     intro = paragraph(

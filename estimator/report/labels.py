@@ -23,6 +23,7 @@ import re
 from functools import cache
 
 __all__ = [
+    "RULE_WORDS",
     "readable_cells",
     "candidate_name",
     "column_label",
@@ -225,6 +226,20 @@ def candidate_name(candidate: str) -> str:
     what = names.get(kind, kind.replace("_", " "))
     return f"{what} on the {rest.replace('_', ' ')}" if rest else what
 
+
+#: Each mixing rule in words, for readers (the report's table of blend methods;
+#: the keys are those of :data:`estimator.blending.BLEND_METHODS`).
+RULE_WORDS = {
+    "kay-volume": "linear by volume fraction (Kay 1936)",
+    "arrhenius-mass": "logarithmic by mass fraction (Arrhenius)",
+    "arrhenius-mole": "logarithmic by mole fraction (Arrhenius)",
+    "linear-volume": "linear by volume fraction",
+    "mass-weighted": "linear by mass fraction",
+    "volume-weighted": "linear by volume fraction",
+    "liquidus-or-linear": "higher of the esters' ideal-solubility liquidus and the linear rule",
+    "ideal-solubility": "ideal solubility of the saturated esters and the diesel's wax",
+    "cloud-gap": "blend cloud point less the volume-weighted cloud point-CFPP gap (ours)",
+}
 
 def spec_name(key: str) -> str:
     """A specification key as printed (``en14214`` -> *EN 14214*)."""

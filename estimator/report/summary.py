@@ -49,13 +49,13 @@ def lot_reasons(verdicts: pd.DataFrame) -> dict[str, tuple[list[str], list[str]]
         out[lot] = ([], [])
     words = verdicts["verdict"].astype(str).str.split(" (", n=1, regex=False).str[0]
     words = words.str.split(";", n=1, regex=False).str[0].str.strip()
-    hit = verdicts[words.isin(["fails", "too close to call"]).to_numpy()]
-    if hit.empty:
+    mask = words.isin(["fails", "too close to call"]).to_numpy()
+    if not mask.any():
         return out
     # the rows of one lot, verdict word and property, in the order they come (one pass;
-    # a groupby per lot is quadratic in thousands of lots)
+    # a groupby per lot is quadratic in thousands of lots); positions, not index labels
     groups: dict[tuple[str, str, str], list[dict]] = {}
-    records = hit.assign(_word=words[hit.index]).to_dict("records")
+    records = verdicts[mask].assign(_word=words.to_numpy()[mask]).to_dict("records")
     for row in records:
         groups.setdefault((str(row["sample"]), row["_word"], row["property"]), []).append(row)
     for word, slot in (("fails", 0), ("too close to call", 1)):

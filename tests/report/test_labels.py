@@ -75,3 +75,12 @@ def test_free_text_loses_keys_marks_and_note_file_names():
     for leak in ("MEMORY", "water_hydrolysis", "gp:", "park2008", "standards.md", "[S1]", ">="):
         assert leak not in text, leak
     assert "Park et al. 2008" in text and "Gaussian process on the descriptors" in text
+
+
+def test_every_mixing_rule_has_words_for_readers():
+    from estimator.blending import BLEND_METHODS
+    from estimator.report.labels import RULE_WORDS
+
+    rules = {m for methods in BLEND_METHODS.values() for m in methods}
+    assert rules <= set(RULE_WORDS)
+    assert all("-" not in RULE_WORDS[r].split(" (")[0].split()[0] for r in rules)
