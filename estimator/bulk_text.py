@@ -21,17 +21,13 @@ from functools import cache
 import numpy as np
 
 __all__ = [
-    "SIGNIFICANT_DIGITS", "body_bytes", "number_fields", "plain_text_fields", "round_significant",
-    "text_fields",
+    "SIGNIFICANT_DIGITS", "body_bytes", "factorize_texts", "number_fields", "plain_text_cells",
+    "round_significant", "text_fields",
 ]
 
 #: Significant digits of every number written (the layout of :func:`number_fields`
 #: is made for six).
 SIGNIFICANT_DIGITS = 6
-#: Bytes of a number field: separator, sign and "0.000" (8), upper and lower digits (4 + 4).
-NUMBER_WIDTH = 16
-#: 10**k, exact in double precision for k <= 22.
-_POW10 = 10.0 ** np.arange(23)
 
 
 def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
@@ -68,6 +64,14 @@ def round_significant(values, digits: int = SIGNIFICANT_DIGITS) -> np.ndarray:
     return out.reshape(given.shape)
 
 
+#: Bytes of a number field: separator, sign and "0.000" (8), upper and lower digits (4 + 4).
+NUMBER_WIDTH = 16
+#: Codes of the cells that are not ``m`` with a point (in place of the decimals ``d``).
+_ZERO, _EMPTY = 10, 11
+#: floor(m / 1000) == (m * _DIV1000) >> 30 for 0 <= m <= 10**6 (checked in the tests).
+_DIV1000 = 1073742
+
+
 def _packed(texts: list[str], width: int) -> np.ndarray:
     """ASCII texts of at most ``width`` (4 or 8) bytes as NUL-padded native words."""
     raw = np.array([t.encode("ascii") for t in texts], dtype=f"S{width}")
@@ -77,6 +81,10 @@ def _packed(texts: list[str], width: int) -> np.ndarray:
 
 def _hi_text(d: int, lo_zero: bool, hi: int) -> str:
     """Text of the upper three digits ``hi`` of the mantissa, ``d`` decimals in all."""
+    if d == _ZERO:
+        return "0"
+    if d > _ZERO:
+        return ""
     text = f"{hi:03d}"
     if d <= 3:
         return text  # all three are integer digits
@@ -89,6 +97,8 @@ def _hi_text(d: int, lo_zero: bool, hi: int) -> str:
 
 def _lo_text(d: int, lo: int) -> str:
     """Text of the lower three digits ``lo`` of the mantissa, ``d`` decimals in all."""
+    if d >= _ZERO:
+        return ""
     text = f"{lo:03d}"
     if d == 0:
         return text
@@ -100,16 +110,82 @@ def _lo_text(d: int, lo: int) -> str:
     return text[:cut] + ("." + decimals if decimals else "")
 
 
+def _lead_text(sep: str, negative: bool, d: int) -> str:
+    """Separator, sign and the "0." and zeros before the digits of a value below 0.1."""
+    if d >= _ZERO:
+        return sep  # zero ("0" is the upper digits) and the empty cells: no sign
+    return sep + "-" * negative + ("0." + "0" * (d - 6) if d >= 6 else "")
+
+
+def _decimal_exponent_floor(binary_exponent: int) -> int:
+    """The integer q with 10**q <= 2**binary_exponent < 10**(q + 1), exactly.
+
+    >>> [_decimal_exponent_floor(k) for k in (-4, -1, 0, 3, 4, 10)]
+    [-2, -1, 0, 0, 1, 3]
+    """
+    if binary_exponent >= 0:
+        return len(str(2 ** binary_exponent)) - 1
+    return -len(str(2 ** -binary_exponent))  # 2**-k is never a power of ten for k > 0
+
+
 @cache
-def _tables(sep: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, int]:
-    """Words of a number's parts: lead (separator, sign, "0.000"), upper and lower digits."""
-    lead = _packed([(sep if with_sep else "") + "-" * neg + ("0." + "0" * (d - 6) if d >= 6
-                                                            else "")
-                    for with_sep in (0, 1) for neg in (0, 1) for d in range(10)], 8)
-    hi = _packed([_hi_text(d, bool(lo_zero), h) for d in range(10) for lo_zero in (0, 1)
+def _exponent_tables() -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Tables of a value's class, looked up by its sign and binary exponent.
+
+    ``e`` is the top 12 bits of the double (sign, exponent), ``threshold[e]`` the power
+    of ten that splits the values of that exponent in two decades, and
+    ``j = 2 e + (|v| >= threshold[e])`` the class: its decimals ``d`` (0 to 9: fixed
+    notation with six digits), or zero, or NaN, or an exponent form and infinity (left
+    to Python). By ``j``: ``scale[j]`` (``10**d``; 0 for zero and NaN, inf for the
+    forms left to Python, so that their scaled value is not below 10**6), ``d1000[j]``
+    (``1000 d``; ``1000 _ZERO`` for zero, ``1000 _EMPTY`` otherwise), and
+    ``lead_code[j]`` (sign * 12 + d, the index of the lead word).
+    """
+    threshold = np.full(2048, np.inf)
+    scale = np.full(4096, np.inf)
+    d = np.full(4096, _EMPTY, dtype=np.intp)
+    threshold[0] = 5e-324  # zero is below it, the subnormal numbers are not
+    scale[0], d[0] = 0.0, _ZERO
+    scale[2 * 2047] = 0.0  # NaN (not above inf); infinity above
+    for biased in range(1, 2047):
+        q = _decimal_exponent_floor(biased - 1023)
+        if -300 < q < 300:
+            threshold[biased] = float(f"1e{q + 1}")
+        for above in (0, 1):
+            x = q + above  # floor(log10(|v|))
+            if -4 <= x <= 5:
+                d[2 * biased + above] = 5 - x
+                scale[2 * biased + above] = float(10 ** (5 - x))
+    negative = np.repeat([0, 1], 4096)
+    d = np.tile(d, 2)
+    return (np.tile(threshold, 2), np.tile(scale, 2), 1000 * d,
+            negative * (_EMPTY + 1) + d)
+
+
+@cache
+def _word_tables(sep: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Words of a number's parts and the offsets of the upper-digit words.
+
+    ``lead[sign * 12 + d]`` (separator, sign, "0.000"), ``hi[2000 d + 1000 (lo == 0) + hi]``,
+    ``lo[1000 d + lo]`` and ``hi_base[1000 d + lo] = 2000 d + 1000 (lo == 0)``, for the
+    decimals ``d`` and the codes :data:`_ZERO` and :data:`_EMPTY`.
+    """
+    codes = range(_EMPTY + 1)
+    lead = _packed([_lead_text(sep, bool(neg), d) for neg in (0, 1) for d in codes], 8)
+    hi = _packed([_hi_text(d, bool(lo_zero), h) for d in codes for lo_zero in (0, 1)
                   for h in range(1000)], 4)
-    lo = _packed([_lo_text(d, g) for d in range(10) for g in range(1000)], 4)
-    return lead, hi, lo, int(_packed(["0"], 4)[0])
+    lo = _packed([_lo_text(d, g) for d in codes for g in range(1000)], 4)
+    hi_base = np.array([2000 * d + 1000 * (g == 0) for d in codes for g in range(1000)],
+                       dtype=np.intp)
+    return lead, hi, lo, hi_base
+
+
+@cache
+def _tables(sep: str) -> tuple[np.ndarray, ...]:
+    """:func:`_exponent_tables`, the lead word of each class, and :func:`_word_tables`."""
+    threshold, scale, d1000, lead_code = _exponent_tables()
+    lead, hi, lo, hi_base = _word_tables(sep)
+    return threshold, scale, d1000, lead[lead_code], lead, hi, lo, hi_base
 
 
 #: Values formatted per slice, so that the temporaries stay in the processor's cache.
@@ -139,13 +215,16 @@ def number_fields(values: np.ndarray, sep: str, *, first: bool = False) -> np.nd
 
     Notes
     -----
-    Rounding scales ``|v|`` by the exact power of ten ``10**d`` that leaves six digits
-    before the point and takes the nearest integer ``m`` (the operations of
-    :func:`round_significant`). In fixed notation (``%g`` between 1e-4 and 1e6, where
-    ``d`` is 0 to 9) the text is ``m`` with the point ``d`` digits from the right,
-    trailing decimal zeros dropped, after "0." and zeros for ``d`` > 5: three words
-    looked up by ``d`` and the upper and lower three digits of ``m``. Other values
-    (``%g`` writes an exponent there) are formatted by Python.
+    The decimal exponent ``x = floor(log10(|v|))`` comes from the binary exponent (the
+    top bits of the double) and one comparison with a power of ten, looked up in
+    tables (no logarithm). Rounding scales ``|v|`` by the exact power of ten ``10**d``,
+    ``d = 5 - x``, that leaves six digits before the point and takes the nearest
+    integer ``m`` (the operations of :func:`round_significant`). In fixed notation
+    (``%g`` between 1e-4 and 1e6, where ``d`` is 0 to 9) the text is ``m`` with the
+    point ``d`` digits from the right, trailing decimal zeros dropped, after "0." and
+    zeros for ``d`` > 5: three words looked up by ``d`` and the upper and lower three
+    digits of ``m``. Other values (``%g`` writes an exponent there) are formatted by
+    Python.
 
     Examples
     --------
@@ -154,59 +233,71 @@ def number_fields(values: np.ndarray, sep: str, *, first: bool = False) -> np.nd
     >>> bytes(f[0]).replace(b"\\0", b"").decode()
     '-0.000123457,59.6441,1.23457e+06,,0,100,12,0.1'
     """
-    values = np.asarray(values, dtype=float)
+    values = np.ascontiguousarray(values, dtype=float)
     n, c = values.shape
     flat = values.reshape(-1)
     words = np.empty((n * c, 2), dtype=np.uint64)  # lead (8 bytes), upper and lower digits
-    with_sep = np.ones((1, c), dtype=np.intp)
-    if first:
-        with_sep[0, 0] = 0
-    with_sep = np.broadcast_to(with_sep * 20, (n, c)).reshape(-1)
     for start in range(0, n * c, _SLICE):
         part = slice(start, start + _SLICE)
-        _number_words(flat[part], with_sep[part], words[part], sep)
-    out = words.view(np.uint8).reshape(n * c, NUMBER_WIDTH)
-    return out.reshape(n, c * NUMBER_WIDTH)
+        _number_words(flat[part], words[part], sep)
+    out = words.view(np.uint8).reshape(n, c * NUMBER_WIDTH)
+    if first and c:
+        out[:, 0] = 0  # the separator before the first column
+    return out
 
 
-def _number_words(v: np.ndarray, lead_base: np.ndarray, words: np.ndarray, sep: str) -> None:
+def _number_words(v: np.ndarray, words: np.ndarray, sep: str) -> None:
     """Fill ``words`` (uint64, shape (k, 2)) with the fields of the values ``v``."""
-    lead, hi_words, lo_words, zero_word = _tables(sep)
+    threshold, scale, d1000_of, lead_of, lead, hi_words, lo_words, hi_base = _tables(sep)
     a = np.abs(v)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        x = np.floor(np.log10(a))
-    candidate = (x >= -4) & (x <= 5)  # False for NaN, inf and 0
-    d = np.where(candidate, 5.0 - x, 0.0).astype(np.intp)
-    m = np.rint(np.where(candidate, a, 1e5) * _POW10[d])
-    carry = m >= 1e6  # 99.99997 rounds to 100.000: one decimal less
-    if carry.any():
-        m[carry] = 1e5
-        d -= carry
-    fixed = candidate & (d >= 0)  # 999999.7 rounds to 1e+06
-    d *= fixed
-    hi = np.floor(m * 1e-3)  # m < 1e6: exact after the floor
-    lo = (m - hi * 1e3).astype(np.intp)
-    hi = hi.astype(np.intp)
-    d1000 = d * 1000
-    lead_index = lead_base + (v < 0) * 10 + d
-    words[:, 0] = lead[lead_index]
+    e = v.view(np.int64) >> 52
+    e &= 4095  # sign and binary exponent
+    j = e << 1
+    j += a >= threshold[e]  # the class of each value (see _exponent_tables)
+    m = scale[j]
+    m *= a
+    np.rint(m, out=m)  # the six digits (zero for zero and NaN; not below 1e6 for the rest)
+    d1000 = d1000_of[j]
+    words[:, 0] = lead_of[j]
+    ok = m < 1e6
+    plain = None if ok.all() else _rare(v, m, d1000, words, np.flatnonzero(~ok), lead)
+    mi = m.astype(np.intp)
+    hi = mi * _DIV1000
+    hi >>= 30  # the upper three digits
+    low = hi * -1000
+    low += mi
+    low += d1000  # index of the lower three digits' word
     w32 = words.view(np.uint32)  # (k, 4): lead, lead, upper digits, lower digits
-    w32[:, 2] = hi_words[2 * d1000 + (lo == 0) * 1000 + hi]
-    w32[:, 3] = lo_words[d1000 + lo]
-    plain = np.flatnonzero(~fixed)  # zero, NaN and the exponent forms: few, by index
-    if len(plain):
-        pv = v[plain]
-        words[plain, 0] = lead[lead_base[plain]]  # the separator alone
-        w32[plain, 2] = np.where(pv == 0, zero_word, 0)
-        w32[plain, 3] = 0
-        other = plain[(pv != 0) & ~np.isnan(pv)]
-        if len(other):
-            texts = [(sep if b else "") + f"{x:.6g}"
-                     for x, b in zip(round_significant(v[other]).tolist(),
-                                     lead_base[other].tolist(), strict=True)]
-            raw = np.array([t.encode("ascii") for t in texts], dtype=f"S{NUMBER_WIDTH}")
-            words.view(np.uint8).reshape(-1, NUMBER_WIDTH)[other] = (
-                raw.view(np.uint8).reshape(-1, NUMBER_WIDTH))
+    hi += hi_base[low]
+    w32[:, 2] = hi_words[hi]
+    w32[:, 3] = lo_words[low]
+    if plain is not None and len(plain):
+        texts = [sep + f"{x:.6g}" for x in round_significant(v[plain]).tolist()]
+        raw = np.array([t.encode("ascii") for t in texts], dtype=f"S{NUMBER_WIDTH}")
+        words.view(np.uint8).reshape(-1, NUMBER_WIDTH)[plain] = (
+            raw.view(np.uint8).reshape(-1, NUMBER_WIDTH))
+
+
+def _rare(v: np.ndarray, m: np.ndarray, d1000: np.ndarray, words: np.ndarray,
+          pos: np.ndarray, lead: np.ndarray) -> np.ndarray:
+    """Fix the values whose scaled value is not below 1e6; return those left to Python.
+
+    A carry (99.99997 rounds to 100.000) leaves one decimal less; NaN is an empty cell;
+    999999.7 (which rounds to 1e+06), infinities and the exponent forms go to Python.
+    """
+    mp = m[pos]
+    dp = d1000[pos]
+    carry = np.isfinite(mp) & (dp > 0)
+    if carry.any():
+        pc = pos[carry]
+        m[pc] = 1e5
+        d1000[pc] -= 1000
+        words[pc, 0] = lead[(v[pc] < 0) * (_EMPTY + 1) + d1000[pc] // 1000]
+    m[pos[np.isnan(mp)]] = 0.0  # NaN: the class's words are already empty
+    plain = pos[~carry & ~np.isnan(mp)]
+    m[plain] = 0.0
+    d1000[plain] = 1000 * _EMPTY
+    return plain
 
 
 def text_fields(cells: Sequence[bytes], codes: np.ndarray) -> np.ndarray:
@@ -221,31 +312,63 @@ def text_fields(cells: Sequence[bytes], codes: np.ndarray) -> np.ndarray:
     return picked.view(np.uint8).reshape(-1, width)
 
 
-def plain_text_fields(texts: Sequence[str], codes: np.ndarray, sep: str,
-                      formula_safe: Callable[[str], str]) -> np.ndarray | None:
-    """Fields of text cells without Python work per cell, or None when that cannot be done.
+def factorize_texts(values: np.ndarray) -> tuple[np.ndarray, list[str]]:
+    """Codes and distinct texts of an object array of texts (-1: a missing value).
+
+    Like ``pandas.factorize`` (first appearance order), through a dict: a text that
+    repeats as one object (a ``flags`` column) is hashed once, not once per row.
+
+    >>> codes, texts = factorize_texts(np.array(["b", None, "a", "b", float("nan")], dtype=object))
+    >>> codes.tolist(), texts
+    ([0, -1, 1, 0, -1], ['b', 'a'])
+    """
+    index = dict.fromkeys(values.tolist())
+    found = list(index)
+    texts = [t for t in found if isinstance(t, str)]
+    if len(texts) == len(found):
+        index.update(zip(found, range(len(found)), strict=True))
+    else:  # missing values (None, NaN, NA) among the texts
+        numbers = iter(range(len(texts)))
+        index.update((t, next(numbers) if isinstance(t, str) else -1) for t in found)
+    codes = np.fromiter(map(index.__getitem__, values.tolist()), dtype=np.intp,
+                        count=len(values))
+    return codes, texts
+
+
+def plain_text_cells(texts: Sequence[str], sep: str,
+                     formula_safe: Callable[[str], str]) -> list[bytes] | None:
+    """Encoded text cells without Python work per cell, or None when that cannot be done.
 
     Done when every text is ASCII with no separator, quote, line break or NUL (none
-    needs quoting): the texts become a character matrix in one step; only the texts
-    that start like a formula go through ``formula_safe``. ``codes`` index ``texts``
-    per row (-1: empty cell).
+    needs quoting): the texts are encoded in one step; only the texts that start like
+    a formula go through ``formula_safe``.
     """
     texts = list(texts)
+    if not texts:
+        return []
     joined = "\n".join(texts)
-    if (not joined.isascii() or joined.count("\n") != max(len(texts) - 1, 0)
+    if (not joined.isascii() or joined.count("\n") != len(texts) - 1
             or any(ch in joined for ch in (sep, '"', "\r", "\0"))):
         return None
-    chars = np.array([*texts, ""], dtype=str)
-    width = chars.dtype.itemsize // 4
-    first = chars.view(np.uint32).reshape(-1, width)[:, 0]
-    risky = np.flatnonzero(np.isin(first, [ord(c) for c in "=+-@\t"]))
-    if len(risky):
-        for i in risky.tolist():
-            texts[i] = formula_safe(texts[i])
-        chars = np.array([*texts, ""], dtype=str)
-        width = chars.dtype.itemsize // 4
-    matrix = chars.view(np.uint32).reshape(-1, width).astype(np.uint8)
-    return matrix[np.where(codes < 0, len(texts), codes)]
+    raw = joined.encode("ascii")
+    cells = raw.split(b"\n")
+    chars = np.frombuffer(raw + b"\n", dtype=np.uint8)
+    starts = np.flatnonzero(chars == ord("\n"))[:-1] + 1
+    first = np.concatenate((chars[:1], chars[starts]))  # "\n" for an empty text
+    for i in np.flatnonzero(np.isin(first, _FORMULA_BYTES)).tolist():
+        cells[i] = formula_safe(texts[i]).encode("utf-8")
+    return cells
+
+
+#: First bytes of the texts that may need a prefix (``formula_safe`` decides).
+_FORMULA_BYTES = np.frombuffer(b"=+-@\t", dtype=np.uint8)
+#: Text columns wider than this many bytes are not padded into the row matrix: a
+#: marker byte holds their place and their cells are joined in between.
+_WIDE = 24
+#: The marker: a byte that UTF-8 text never holds.
+_MARK = b"\xff"
+#: Rows laid out at a time by :func:`body_bytes`.
+_ROWS = 2048
 
 
 def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes | None:
@@ -260,6 +383,14 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
 
     Returns None when a text cell holds a NUL byte (the layout drops NUL bytes) or the
     separator is not one ASCII character.
+
+    Notes
+    -----
+    The narrow cells of a row (numbers, short texts, separators, the line break) are
+    fields side by side in a byte matrix, compacted by dropping its NUL bytes. A text
+    column wider than :data:`_WIDE` bytes is not padded into that matrix (its widest
+    cell would set the width of every row): a marker byte takes its place, the
+    compacted bytes are split at the markers and the column's cells joined in between.
     """
     if len(sep.encode("utf-8")) != 1 or sep in "\0\n":
         return None
@@ -267,6 +398,9 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
         return b"\n" * n
     # pieces of a row, in order: ("numbers", values, first) or ("bytes", matrix)
     pieces: list[tuple] = []
+    wide: list[np.ndarray] = []  # the cells of each wide text column, one per row
+    marks = []  # the place of each wide column among the pieces
+    narrow_text = []  # the bytes of the narrow text cells (the marker must not be there)
     # a separator before every cell but the first; consecutive number columns are
     # formatted as one block
     i = 0
@@ -280,25 +414,45 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
             values = np.column_stack(block) if len(block) > 1 else block[0][:, None]
             pieces.append(("numbers", values, i == 0))
         else:
-            if kind == "text":
-                cells, codes = data
-                if any(b"\0" in c for c in cells):
-                    return None
-                data = text_fields(cells, np.asarray(codes))
             if i:
                 pieces.append(("bytes", np.full((n, 1), ord(sep), np.uint8)))
+            if kind == "text":
+                cells, codes = data
+                every = b"".join(cells)
+                if b"\0" in every:
+                    return None
+                codes = np.asarray(codes)
+                picks = np.where(codes < 0, len(cells), codes)
+                table = np.array([*cells, b""], dtype=bytes)
+                if table.dtype.itemsize > _WIDE:
+                    wide.append(np.array([*cells, b""], dtype=object)[picks])
+                    marks.append(len(pieces))
+                    pieces.append(("bytes", np.full((n, 1), _MARK[0], np.uint8)))
+                    i = j
+                    continue
+                narrow_text.append(every)
+                data = text_fields(cells, codes)
+            else:
+                narrow_text.append(np.asarray(data, dtype=np.uint8).tobytes())
             pieces.append(("bytes", data))
         i = j
     pieces.append(("bytes", np.full((n, 1), ord("\n"), np.uint8)))
-    out = []
+    if wide and any(_MARK in t for t in narrow_text):
+        return None
+    by_row = np.column_stack(wide) if wide else None
+    out: list[bytes] = []
     for start in range(0, n, _ROWS):  # a few thousand rows at a time: cache-sized matrices
         rows = slice(start, start + _ROWS)
         parts = [number_fields(p[1][rows], sep, first=p[2]) if p[0] == "numbers" else p[1][rows]
                  for p in pieces]
-        flat = np.concatenate(parts, axis=1).reshape(-1)
-        out.append(flat[flat != 0].tobytes())
+        narrow = np.concatenate(parts, axis=1).tobytes().translate(None, b"\0")
+        if by_row is None:
+            out.append(narrow)
+            continue
+        between = narrow.split(_MARK)
+        cells = by_row[rows].reshape(-1).tolist()
+        joined: list = [None] * (len(between) + len(cells))
+        joined[0::2] = between
+        joined[1::2] = cells
+        out += joined
     return b"".join(out)
-
-
-#: Rows laid out at a time by :func:`body_bytes`.
-_ROWS = 2048

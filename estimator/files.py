@@ -40,8 +40,9 @@ import pandas as pd
 from estimator.bulk_text import (
     SIGNIFICANT_DIGITS,
     body_bytes,
+    factorize_texts,
     number_fields,
-    plain_text_fields,
+    plain_text_cells,
     round_significant,
 )
 from estimator.errors import InputFileError, UsageError
@@ -307,13 +308,10 @@ def _body_bulk(frame: pd.DataFrame, sep: str) -> bytes | None:
         else:
             values = s.to_numpy(dtype=object)
             if pd.api.types.infer_dtype(values, skipna=True) in ("string", "empty"):
-                codes, uniques = pd.factorize(values)
-                texts = uniques.tolist()
-                fields = plain_text_fields(texts, codes, sep, lambda t: _text_cell(t, sep))
-                if fields is not None:
-                    columns.append(("fields", fields))
-                    continue
-                cells = [_text_cell(u, sep).encode("utf-8") for u in texts]
+                codes, texts = factorize_texts(values)
+                cells = plain_text_cells(texts, sep, lambda t: _text_cell(t, sep))
+                if cells is None:
+                    cells = [_text_cell(u, sep).encode("utf-8") for u in texts]
             else:
                 cells = [_object_cell(v, sep).encode("utf-8") for v in values.tolist()]
                 codes = np.arange(len(cells))

@@ -2,11 +2,21 @@
 
 from __future__ import annotations
 
+import csv
+import io
+from fractions import Fraction
+
 import numpy as np
 import pandas as pd
 import pytest
 
-from estimator.bulk_text import number_fields
+from estimator.bulk_text import (
+    _DIV1000,
+    _decimal_exponent_floor,
+    body_bytes,
+    factorize_texts,
+    number_fields,
+)
 from estimator.files import csv_text, round_significant
 
 HOSTILE = ["=cmd|' /C calc'!A0", "+1+1", "-2+3", "@SUM(A1)", "\tx", "\r=1", "plain", "a,b",
@@ -85,3 +95,133 @@ def test_xlsx_number_texts_are_the_csv_cells():
     values = np.concatenate([_edge_values(), _random_values(3000, 5)])
     assert _number_texts(values) == _float_cells(values)
     assert _number_texts(np.array([])) == []
+
+
+# ------------------------------------------------------------------ wide text columns
+WIDE_TEXTS = [
+    "cfpp_C: outside ramos2009 domain (C16:0-C18:3 main esters < 80 wt %, LCSF > 7 wt %)",
+    "=HYPERLINK(\"http://example.invalid\", \"click\") and a long tail of words " * 3,
+    "+" + "plain words without any separator at all " * 4,
+    "-12.5 is a number only at the start of this long explanatory text",
+    "naïve µ-text with non-ASCII letters: 20 °C, ±0.5 K, Ölsäure-Methylester",
+    'say "hi" three times: "hi", "hi", "hi" (quotes double in CSV)',
+    "a line\nbreak and a\r\ncarriage return inside one long cell of text",
+    "\ttab first, then a long text that a spreadsheet must not run as a formula",
+    "@SUM(A1:A9) is how a long cell could start, so it gets a prefix",
+    "",
+    None,
+    "short",
+]
+
+
+def _wide_frame(n: int, seed: int) -> pd.DataFrame:
+    rng = np.random.default_rng(seed)
+    values = np.concatenate([_edge_values(), _random_values(n, seed)])[:n]
+    pick = rng.integers(0, len(WIDE_TEXTS), n)
+    return pd.DataFrame({
+        "sample": [f"{HOSTILE[i % len(HOSTILE)]}{i}" for i in range(n)],
+        "x": values,
+        "flags": [WIDE_TEXTS[k] for k in pick.tolist()],  # wide text in the middle
+        "y": rng.permutation(values),
+        "ok": np.arange(n) % 3 == 0,
+        "notes": [WIDE_TEXTS[k] for k in rng.permutation(pick).tolist()],  # wide text last
+    })
+
+
+@pytest.mark.parametrize("sep", [",", "\t"])
+@pytest.mark.parametrize("columns", [
+    ["sample", "x", "flags", "y", "ok", "notes"],  # wide texts in the middle and at the end
+    ["flags", "x", "y"],  # a wide text starts the row
+    ["notes"],  # only a wide text
+    ["flags", "notes"],  # two wide texts side by side
+    ["x", "notes", "y", "flags"],
+])
+def test_wide_text_columns_give_the_bytes_of_the_cell_by_cell_writer(sep, columns):
+    # regression test: the wide-text layout against the plain Python formatting of every cell
+    frame = _wide_frame(5000, seed=4)[columns]
+    assert csv_text(frame, sep=sep) == csv_text(frame, sep=sep, fast=False)
+    one = frame.iloc[:1]
+    assert csv_text(one, sep=sep) == csv_text(one, sep=sep, fast=False)
+    empty = frame.iloc[:0]
+    assert csv_text(empty, sep=sep) == csv_text(empty, sep=sep, fast=False)
+
+
+def test_wide_text_cells_read_back_through_the_csv_module():
+    # reference: Python's csv module (RFC 4180 quoting) reads every cell back; formula-like
+    # text comes back with the "'" prefix (OWASP CSV-injection guidance, common practice)
+    frame = _wide_frame(500, seed=9)[["sample", "flags", "x", "notes"]]
+    text = csv_text(frame).decode("utf-8")
+    rows = list(csv.reader(io.StringIO(text, newline="")))
+    assert rows[0] == ["sample", "flags", "x", "notes"]
+    assert len(rows) == len(frame) + 1
+    for row, (flags, notes) in zip(rows[1:], frame[["flags", "notes"]].itertuples(index=False),
+                                   strict=True):
+        for cell, value in ((row[1], flags), (row[3], notes)):
+            if pd.isna(value):
+                assert cell == ""
+            elif value[:1] in ("=", "+", "@", "\t") or value.startswith("-12.5 is"):
+                assert cell == "'" + value
+            else:
+                assert cell == value
+
+
+def test_plain_wide_texts_stay_plain_and_get_no_quotes():
+    # regression test: texts with no separator, quote or line break are written as they are
+    texts = ["x" * 40 + str(i % 7) for i in range(300)]
+    frame = pd.DataFrame({"a": np.arange(300) / 7.0, "long": texts, "b": np.ones(300)})
+    body = csv_text(frame).decode().splitlines()[1:]
+    assert [line.split(",")[1] for line in body] == texts
+    assert csv_text(frame) == csv_text(frame, fast=False)
+
+
+def test_the_marker_byte_in_a_narrow_cell_leaves_the_layout_to_the_caller():
+    # 0xFF never occurs in UTF-8 text; other bytes from a caller are not laid out around it
+    cells = [b"a\xffb"]
+    wide = [b"w" * 40]
+    columns = [("text", (cells, np.zeros(3, dtype=np.intp))),
+               ("text", (wide, np.zeros(3, dtype=np.intp)))]
+    assert body_bytes(columns, 3, ",") is None
+    assert body_bytes(columns[:1], 3, ",") == b"a\xffb\n" * 3
+
+
+def test_factorize_texts_gives_the_codes_of_pandas_factorize():
+    # reference: pandas.factorize (first-appearance order, -1 for missing values)
+    values = np.array(["b", None, "a", "b", float("nan"), pd.NA, "", "a", ""], dtype=object)
+    codes, texts = factorize_texts(values)
+    expected_codes, expected = pd.factorize(values)
+    assert codes.tolist() == expected_codes.tolist()
+    assert texts == expected.tolist()
+    codes, texts = factorize_texts(np.array([], dtype=object))
+    assert codes.tolist() == [] and texts == []
+
+
+# ------------------------------------------------------------------ the number layout
+def test_division_by_1000_through_a_multiply_and_shift_is_exact():
+    # regression test: every six-digit mantissa (and the carry 10**6) splits as m // 1000 does
+    m = np.arange(10**6 + 1, dtype=np.int64)
+    assert np.array_equal((m * _DIV1000) >> 30, m // 1000)
+
+
+def test_decimal_exponents_of_powers_of_two_are_exact():
+    # reference: the number of decimal digits of 2**k (exact integer arithmetic)
+    for k in range(-1074, 1024, 7):
+        q = _decimal_exponent_floor(k)
+        assert Fraction(10) ** q <= Fraction(2) ** k < Fraction(10) ** (q + 1)
+
+
+def test_numbers_next_to_every_power_of_ten_read_as_printf_writes_them():
+    # reference: Python's '%.6g' of each rounded value, on both sides of each decade edge
+    powers = 10.0 ** np.arange(-8, 9)
+    near = [np.nextafter(p, 0.0) for p in powers] + [np.nextafter(p, np.inf) for p in powers]
+    near += [p * (1 - 5e-7) for p in powers] + [p * (1 + 5e-7) for p in powers]
+    values = np.array(list(powers) + near)
+    values = np.concatenate([values, -values, [5e-324, -5e-324, 2.2250738585072014e-308]])
+    fields = number_fields(values[:, None], ",", first=True)
+    texts = [bytes(row).replace(b"\0", b"").decode() for row in fields]
+    expected = ["" if v != v else f"{v:.6g}" for v in round_significant(values).tolist()]
+    assert texts == expected
+
+
+def test_the_first_column_has_no_separator_and_the_others_have_one():
+    f = number_fields(np.array([[1.5, np.nan, -2.0], [np.nan, 0.0, 1e-9]]), ";", first=True)
+    assert [bytes(r).replace(b"\0", b"").decode() for r in f] == ["1.5;;-2", ";0;1e-09"]
