@@ -74,40 +74,43 @@ _DIV1000 = 1073742
 
 def _packed(texts: list[str], width: int) -> np.ndarray:
     """ASCII texts of at most ``width`` (4 or 8) bytes as NUL-padded native words."""
-    raw = np.array([t.encode("ascii") for t in texts], dtype=f"S{width}")
     word = np.uint32 if width == 4 else np.uint64
-    return raw.view(np.uint8).reshape(-1, width).copy().view(word).reshape(-1)
+    return np.array(texts, dtype=f"S{width}").view(word)
 
 
-def _hi_text(d: int, lo_zero: bool, hi: int) -> str:
-    """Text of the upper three digits ``hi`` of the mantissa, ``d`` decimals in all."""
+def _hi_texts(d: int, lo_zero: bool, digits: list[str]) -> list[str]:
+    """Texts of the upper three digits of the mantissa (each of 000 to 999), ``d`` decimals."""
     if d == _ZERO:
-        return "0"
+        return ["0"] * 1000
     if d > _ZERO:
-        return ""
-    text = f"{hi:03d}"
+        return [""] * 1000
     if d <= 3:
-        return text  # all three are integer digits
+        return digits  # all three are integer digits
     if d >= 6:
-        return text.rstrip("0") if lo_zero else text  # all three are decimals
+        return [t.rstrip("0") for t in digits] if lo_zero else digits  # all are decimals
     cut = 6 - d  # integer digits in this group
-    decimals = text[cut:].rstrip("0") if lo_zero else text[cut:]
-    return text[:cut] + ("." + decimals if decimals else "")
+    out = []
+    for text in digits:
+        decimals = text[cut:].rstrip("0") if lo_zero else text[cut:]
+        out.append(text[:cut] + ("." + decimals if decimals else ""))
+    return out
 
 
-def _lo_text(d: int, lo: int) -> str:
-    """Text of the lower three digits ``lo`` of the mantissa, ``d`` decimals in all."""
+def _lo_texts(d: int, digits: list[str]) -> list[str]:
+    """Texts of the lower three digits of the mantissa (each of 000 to 999), ``d`` decimals."""
     if d >= _ZERO:
-        return ""
-    text = f"{lo:03d}"
+        return [""] * 1000
     if d == 0:
-        return text
+        return digits
     if d >= 3:
-        decimals = text.rstrip("0")
-        return decimals if d > 3 or not decimals else "." + decimals
+        decimals = [t.rstrip("0") for t in digits]
+        return decimals if d > 3 else ["." + t if t else "" for t in decimals]
     cut = 3 - d
-    decimals = text[cut:].rstrip("0")
-    return text[:cut] + ("." + decimals if decimals else "")
+    out = []
+    for text in digits:
+        decimals = text[cut:].rstrip("0")
+        out.append(text[:cut] + ("." + decimals if decimals else ""))
+    return out
 
 
 def _lead_text(sep: str, negative: bool, d: int) -> str:
@@ -117,15 +120,15 @@ def _lead_text(sep: str, negative: bool, d: int) -> str:
     return sep + "-" * negative + ("0." + "0" * (d - 6) if d >= 6 else "")
 
 
-def _decimal_exponent_floor(binary_exponent: int) -> int:
-    """The integer q with 10**q <= 2**binary_exponent < 10**(q + 1), exactly.
+def _decimal_exponents(binary_exponents: np.ndarray) -> np.ndarray:
+    """The integers q with 10**q <= 2**k < 10**(q + 1) for the exponents k of doubles.
 
-    >>> [_decimal_exponent_floor(k) for k in (-4, -1, 0, 3, 4, 10)]
+    ``floor(k log10(2))``: exact for -1074 <= k <= 1023 (checked in the tests).
+
+    >>> _decimal_exponents(np.array([-4, -1, 0, 3, 4, 10])).tolist()
     [-2, -1, 0, 0, 1, 3]
     """
-    if binary_exponent >= 0:
-        return len(str(2 ** binary_exponent)) - 1
-    return -len(str(2 ** -binary_exponent))  # 2**-k is never a power of ten for k > 0
+    return np.floor(np.asarray(binary_exponents) * np.log10(2.0)).astype(np.intp)
 
 
 @cache
@@ -141,21 +144,19 @@ def _exponent_tables() -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     (``1000 d``; ``1000 _ZERO`` for zero, ``1000 _EMPTY`` otherwise), and
     ``lead_code[j]`` (sign * 12 + d, the index of the lead word).
     """
+    biased = np.arange(2048)
+    q = _decimal_exponents(biased - 1023)
+    normal = (biased > 0) & (biased < 2047)
     threshold = np.full(2048, np.inf)
-    scale = np.full(4096, np.inf)
-    d = np.full(4096, _EMPTY, dtype=np.intp)
+    for b in np.flatnonzero(normal & (q >= -6) & (q <= 6)).tolist():
+        threshold[b] = float(f"1e{q[b] + 1}")  # the nearest double to the power of ten
     threshold[0] = 5e-324  # zero is below it, the subnormal numbers are not
-    scale[0], d[0] = 0.0, _ZERO
-    scale[2 * 2047] = 0.0  # NaN (not above inf); infinity above
-    for biased in range(1, 2047):
-        q = _decimal_exponent_floor(biased - 1023)
-        if -300 < q < 300:
-            threshold[biased] = float(f"1e{q + 1}")
-        for above in (0, 1):
-            x = q + above  # floor(log10(|v|))
-            if -4 <= x <= 5:
-                d[2 * biased + above] = 5 - x
-                scale[2 * biased + above] = float(10 ** (5 - x))
+    x = q[:, None] + np.array([0, 1])  # floor(log10(|v|)) below and above the threshold
+    fixed = normal[:, None] & (x >= -4) & (x <= 5)
+    d = np.where(fixed, 5 - x, _EMPTY).reshape(-1)
+    scale = np.where(fixed, 10.0 ** np.clip(5 - x, 0, 9), np.inf).reshape(-1)  # exact powers
+    d[0], scale[0] = _ZERO, 0.0  # zero
+    scale[2 * 2047] = 0.0  # NaN (not above inf); infinity is above
     negative = np.repeat([0, 1], 4096)
     d = np.tile(d, 2)
     return (np.tile(threshold, 2), np.tile(scale, 2), 1000 * d,
@@ -171,12 +172,12 @@ def _word_tables(sep: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarr
     decimals ``d`` and the codes :data:`_ZERO` and :data:`_EMPTY`.
     """
     codes = range(_EMPTY + 1)
+    digits = [f"{h:03d}" for h in range(1000)]
     lead = _packed([_lead_text(sep, bool(neg), d) for neg in (0, 1) for d in codes], 8)
-    hi = _packed([_hi_text(d, bool(lo_zero), h) for d in codes for lo_zero in (0, 1)
-                  for h in range(1000)], 4)
-    lo = _packed([_lo_text(d, g) for d in codes for g in range(1000)], 4)
-    hi_base = np.array([2000 * d + 1000 * (g == 0) for d in codes for g in range(1000)],
-                       dtype=np.intp)
+    hi = _packed([t for d in codes for lo_zero in (False, True)
+                  for t in _hi_texts(d, lo_zero, digits)], 4)
+    lo = _packed([t for d in codes for t in _lo_texts(d, digits)], 4)
+    hi_base = (2000 * np.arange(_EMPTY + 1)[:, None] + 1000 * (np.arange(1000) == 0)).reshape(-1)
     return lead, hi, lo, hi_base
 
 

@@ -12,7 +12,7 @@ import pytest
 
 from estimator.bulk_text import (
     _DIV1000,
-    _decimal_exponent_floor,
+    _decimal_exponents,
     body_bytes,
     factorize_texts,
     number_fields,
@@ -203,10 +203,10 @@ def test_division_by_1000_through_a_multiply_and_shift_is_exact():
 
 
 def test_decimal_exponents_of_powers_of_two_are_exact():
-    # reference: the number of decimal digits of 2**k (exact integer arithmetic)
-    for k in range(-1074, 1024, 7):
-        q = _decimal_exponent_floor(k)
-        assert Fraction(10) ** q <= Fraction(2) ** k < Fraction(10) ** (q + 1)
+    # reference: exact rational arithmetic, 10**q <= 2**k < 10**(q + 1) for every double's k
+    k = np.arange(-1074, 1024)
+    for kk, q in zip(k.tolist(), _decimal_exponents(k).tolist(), strict=True):
+        assert Fraction(10) ** q <= Fraction(2) ** kk < Fraction(10) ** (q + 1)
 
 
 def test_numbers_next_to_every_power_of_ten_read_as_printf_writes_them():
