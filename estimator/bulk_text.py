@@ -3,11 +3,13 @@
 A low-level helper of :mod:`estimator.files` (it imports nothing from ``estimator``).
 Every cell becomes a fixed-width field of bytes, padded with NUL bytes; a row is its
 fields side by side, each after a separator (the first excepted), then a newline; the
-body is the matrix with the NUL bytes dropped. Numbers are formatted with array arithmetic,
-not one Python call per cell, and give the same text as ``"%.6g" % value`` of the
-value rounded to six significant digits, about 15 times faster than formatting cell by
-cell (a whole ``predict`` table, text and layout included: about 4 times). Text
-columns are formatted once per distinct value.
+body is the matrix with the NUL bytes dropped (``bytes.translate``). A text column
+with wide cells (a ``flags`` column) is not padded into the matrix: a marker byte holds
+its place and its cells are joined in between. Numbers are formatted with array
+arithmetic and table look-ups, not one Python call per cell, and give the same text as
+``"%.6g" % value`` of the value rounded to six significant digits, about 25 times
+faster than formatting cell by cell (a whole ``predict`` table, text and layout
+included: about 6 times). Text columns are formatted once per distinct value.
 
 The few number cells that ``%g`` writes with an exponent (below 1e-4 or from 1e6 up,
 and infinities) go through Python's own formatting.
@@ -372,8 +374,9 @@ _MARK = b"\xff"
 _ROWS = 2048
 
 
-def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes | None:
-    """The CSV/TSV body of ``n`` rows from prepared columns; None when it cannot be done here.
+def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str,
+               head: bytes = b"") -> bytes | None:
+    """``head`` and the CSV/TSV body of ``n`` rows from prepared columns (None: not done here).
 
     ``columns`` holds ``(kind, data)`` pairs in table order:
 
@@ -396,7 +399,7 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
     if len(sep.encode("utf-8")) != 1 or sep in "\0\n":
         return None
     if not columns:
-        return b"\n" * n
+        return head + b"\n" * n
     # pieces of a row, in order: ("numbers", values, first) or ("bytes", matrix)
     pieces: list[tuple] = []
     wide: list[np.ndarray] = []  # the cells of each wide text column, one per row
@@ -441,7 +444,7 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str) -> bytes
     if wide and any(_MARK in t for t in narrow_text):
         return None
     by_row = np.column_stack(wide) if wide else None
-    out: list[bytes] = []
+    out: list[bytes] = [head]  # joined once: the body is not copied again after the head
     for start in range(0, n, _ROWS):  # a few thousand rows at a time: cache-sized matrices
         rows = slice(start, start + _ROWS)
         parts = [number_fields(p[1][rows], sep, first=p[2]) if p[0] == "numbers" else p[1][rows]

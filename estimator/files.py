@@ -293,8 +293,8 @@ def _body_python(frame: pd.DataFrame, sep: str) -> str:
     return "".join(sep.join(row) + "\n" for row in zip(*cols, strict=True))
 
 
-def _body_bulk(frame: pd.DataFrame, sep: str) -> bytes | None:
-    """The same bytes as :func:`_body_python`, laid out in bulk (:mod:`estimator.bulk_text`)."""
+def _body_bulk(frame: pd.DataFrame, sep: str, head: bytes = b"") -> bytes | None:
+    """``head`` and the bytes of :func:`_body_python`, laid out by :mod:`estimator.bulk_text`."""
     columns = []
     for name in frame.columns:
         s = frame[name]
@@ -316,7 +316,7 @@ def _body_bulk(frame: pd.DataFrame, sep: str) -> bytes | None:
                 cells = [_object_cell(v, sep).encode("utf-8") for v in values.tolist()]
                 codes = np.arange(len(cells))
         columns.append(("text", (cells, codes)))
-    return body_bytes(columns, len(frame), sep)
+    return body_bytes(columns, len(frame), sep, head)
 
 
 def _arrow():
@@ -401,9 +401,9 @@ def csv_text(frame: pd.DataFrame, *, sep: str = ",", header: bool = True,
     """
     head = _header(frame.columns, sep).encode("utf-8") if header else b""
     if fast is None and len(frame):
-        body = _body_bulk(frame, sep)
-        if body is not None:
-            return head + body
+        text = _body_bulk(frame, sep, head)
+        if text is not None:
+            return text
     arrow = _arrow() if fast else None
     if fast and arrow is None:
         raise ImportError("pyarrow is not installed")
