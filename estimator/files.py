@@ -293,6 +293,19 @@ def _body_python(frame: pd.DataFrame, sep: str) -> str:
     return "".join(sep.join(row) + "\n" for row in zip(*cols, strict=True))
 
 
+def _factorize_texts(values: np.ndarray) -> tuple[np.ndarray, list[str]]:
+    """Codes and distinct texts of a text column (-1: missing), the faster way for its texts.
+
+    Long texts (a ``flags`` column) through a dict, which hashes a text object once and
+    keeps its hash; short ones through ``pandas.factorize``, faster on many distinct texts.
+    """
+    probe = [t for t in values[:64].tolist() if isinstance(t, str)]
+    if probe and sum(map(len, probe)) > 32 * len(probe):
+        return factorize_texts(values)
+    codes, uniques = pd.factorize(values)
+    return codes, uniques.tolist()
+
+
 def _body_bulk(frame: pd.DataFrame, sep: str, head: bytes = b"") -> bytes | None:
     """``head`` and the bytes of :func:`_body_python`, laid out by :mod:`estimator.bulk_text`."""
     columns = []
@@ -308,7 +321,7 @@ def _body_bulk(frame: pd.DataFrame, sep: str, head: bytes = b"") -> bytes | None
         else:
             values = s.to_numpy(dtype=object)
             if pd.api.types.infer_dtype(values, skipna=True) in ("string", "empty"):
-                codes, texts = factorize_texts(values)
+                codes, texts = _factorize_texts(values)
                 cells = plain_text_cells(texts, sep, lambda t: _text_cell(t, sep))
                 if cells is None:
                     cells = [_text_cell(u, sep).encode("utf-8") for u in texts]
