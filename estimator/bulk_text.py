@@ -24,7 +24,7 @@ import numpy as np
 
 __all__ = [
     "SIGNIFICANT_DIGITS", "body_bytes", "factorize_texts", "number_fields", "plain_text_cells",
-    "round_significant", "text_fields",
+    "round_significant",
 ]
 
 #: Significant digits of every number written (the layout of :func:`number_fields`
@@ -238,20 +238,27 @@ def number_fields(values: np.ndarray, sep: str, *, first: bool = False) -> np.nd
     """
     values = np.ascontiguousarray(values, dtype=float)
     n, c = values.shape
-    flat = values.reshape(-1)
-    words = np.empty((n * c, 2), dtype=np.uint64)  # lead (8 bytes), upper and lower digits
-    for start in range(0, n * c, _SLICE):
-        part = slice(start, start + _SLICE)
-        _number_words(flat[part], words[part], sep)
+    words = np.empty((n, c, 2), dtype=np.uint64)  # lead (8 bytes), upper and lower digits
+    _number_rows(values, words, sep)
     out = words.view(np.uint8).reshape(n, c * NUMBER_WIDTH)
     if first and c:
         out[:, 0] = 0  # the separator before the first column
     return out
 
 
+def _number_rows(values: np.ndarray, words: np.ndarray, sep: str) -> None:
+    """Fill ``words`` (uint64, shape (n, c, 2); rows may lie apart) from ``values`` (n, c)."""
+    n, c = values.shape
+    step = max(1, _SLICE // max(c, 1))
+    for start in range(0, n, step):
+        rows = slice(start, start + step)
+        _number_words(values[rows].reshape(-1), words[rows], sep)
+
+
 def _number_words(v: np.ndarray, words: np.ndarray, sep: str) -> None:
-    """Fill ``words`` (uint64, shape (k, 2)) with the fields of the values ``v``."""
+    """Fill ``words`` (uint64, shape (r, c, 2)) with the fields of the values ``v`` (r c)."""
     threshold, scale, d1000_of, lead_of, lead, hi_words, lo_words, hi_base = _tables(sep)
+    shape = words.shape[:2]
     a = np.abs(v)
     e = v.view(np.int64) >> 52
     e &= 4095  # sign and binary exponent
@@ -261,7 +268,7 @@ def _number_words(v: np.ndarray, words: np.ndarray, sep: str) -> None:
     m *= a
     np.rint(m, out=m)  # the six digits (zero for zero and NaN; not below 1e6 for the rest)
     d1000 = d1000_of[j]
-    words[:, 0] = lead_of[j]
+    words[:, :, 0] = lead_of[j].reshape(shape)
     ok = m < 1e6
     plain = None if ok.all() else _rare(v, m, d1000, words, np.flatnonzero(~ok), lead)
     mi = m.astype(np.intp)
@@ -270,14 +277,14 @@ def _number_words(v: np.ndarray, words: np.ndarray, sep: str) -> None:
     low = hi * -1000
     low += mi
     low += d1000  # index of the lower three digits' word
-    w32 = words.view(np.uint32)  # (k, 4): lead, lead, upper digits, lower digits
+    w32 = words.view(np.uint32)  # (r, c, 4): lead, lead, upper digits, lower digits
     hi += hi_base[low]
-    w32[:, 2] = hi_words[hi]
-    w32[:, 3] = lo_words[low]
+    w32[:, :, 2] = hi_words[hi].reshape(shape)
+    w32[:, :, 3] = lo_words[low].reshape(shape)
     if plain is not None and len(plain):
         texts = [sep + f"{x:.6g}" for x in round_significant(v[plain]).tolist()]
         raw = np.array([t.encode("ascii") for t in texts], dtype=f"S{NUMBER_WIDTH}")
-        words.view(np.uint8).reshape(-1, NUMBER_WIDTH)[plain] = (
+        words.view(np.uint8)[np.unravel_index(plain, shape)] = (
             raw.view(np.uint8).reshape(-1, NUMBER_WIDTH))
 
 
@@ -295,24 +302,13 @@ def _rare(v: np.ndarray, m: np.ndarray, d1000: np.ndarray, words: np.ndarray,
         pc = pos[carry]
         m[pc] = 1e5
         d1000[pc] -= 1000
-        words[pc, 0] = lead[(v[pc] < 0) * (_EMPTY + 1) + d1000[pc] // 1000]
+        words[(*np.unravel_index(pc, words.shape[:2]), 0)] = (
+            lead[(v[pc] < 0) * (_EMPTY + 1) + d1000[pc] // 1000])
     m[pos[np.isnan(mp)]] = 0.0  # NaN: the class's words are already empty
     plain = pos[~carry & ~np.isnan(mp)]
     m[plain] = 0.0
     d1000[plain] = 1000 * _EMPTY
     return plain
-
-
-def text_fields(cells: Sequence[bytes], codes: np.ndarray) -> np.ndarray:
-    """Fields of encoded text cells: ``cells[codes[i]]`` NUL-padded, shape ``(n, width)``.
-
-    ``codes`` equal to -1 give an empty field.
-    """
-    table = np.array([*cells, b""], dtype=bytes)
-    width = max(table.dtype.itemsize, 1)
-    table = table.astype(f"S{width}")
-    picked = table[np.where(codes < 0, len(cells), codes)]
-    return picked.view(np.uint8).reshape(-1, width)
 
 
 def factorize_texts(values: np.ndarray) -> tuple[np.ndarray, list[str]]:
@@ -374,13 +370,21 @@ _MARK = b"\xff"
 _ROWS = 2048
 
 
+def _text_table(every: bytes, sizes: np.ndarray) -> np.ndarray:
+    """Cells (all their bytes, and their sizes) as NUL-padded rows, and an empty last row."""
+    table = np.zeros((len(sizes) + 1, max(int(sizes.max(initial=0)), 1)), dtype=np.uint8)
+    table[:-1][np.arange(table.shape[1]) < sizes[:, None]] = np.frombuffer(every, dtype=np.uint8)
+    return table
+
+
 def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str,
                head: bytes = b"") -> bytes | None:
     """``head`` and the CSV/TSV body of ``n`` rows from prepared columns (None: not done here).
 
     ``columns`` holds ``(kind, data)`` pairs in table order:
 
-    * ``("float", values)``: float array (rounded and formatted here);
+    * ``("float", values)``: float array, one column or ``(n, c)`` for c columns (rounded
+      and formatted here);
     * ``("text", (cells, codes))``: the distinct cells, already formatted and encoded,
       and an int code per row (-1: empty cell);
     * ``("fields", matrix)``: the cells as NUL-padded bytes, one row per row.
@@ -391,22 +395,40 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str,
     Notes
     -----
     The narrow cells of a row (numbers, short texts, separators, the line break) are
-    fields side by side in a byte matrix, compacted by dropping its NUL bytes. A text
-    column wider than :data:`_WIDE` bytes is not padded into that matrix (its widest
-    cell would set the width of every row): a marker byte takes its place, the
-    compacted bytes are split at the markers and the column's cells joined in between.
+    fields side by side in a byte matrix, compacted by dropping its NUL bytes; the
+    matrix of a few thousand rows is one buffer, filled in place block after block
+    (number fields start 8-byte aligned). A text column wider than :data:`_WIDE` bytes
+    is not padded into that matrix (its widest cell would set the width of every row):
+    a marker byte takes its place, the compacted bytes are split at the markers and
+    the column's cells joined in between.
     """
     if len(sep.encode("utf-8")) != 1 or sep in "\0\n":
         return None
     if not columns:
         return head + b"\n" * n
-    # pieces of a row, in order: ("numbers", values, first) or ("bytes", matrix)
-    pieces: list[tuple] = []
-    wide: list[np.ndarray] = []  # the cells of each wide text column, one per row
-    marks = []  # the place of each wide column among the pieces
-    narrow_text = []  # the bytes of the narrow text cells (the marker must not be there)
-    # a separator before every cell but the first; consecutive number columns are
-    # formatted as one block
+    texts: dict[int, tuple] = {}  # cells, picks, widest, their bytes, their sizes
+    for i, (kind, data) in enumerate(columns):
+        if kind == "text":
+            cells, codes = data
+            every = b"".join(cells)
+            if b"\0" in every:
+                return None
+            cells = list(cells)
+            picks = np.asarray(codes)
+            picks = np.where(picks < 0, len(cells), picks)
+            sizes = np.fromiter(map(len, cells), dtype=np.intp, count=len(cells))
+            texts[i] = (cells, picks, int(sizes.max(initial=0)), every, sizes)
+    fields = [data for kind, data in columns if kind == "fields"]
+    wide = {i for i, t in texts.items() if t[2] > _WIDE}
+    if wide and (any(_MARK in t[3] for i, t in texts.items() if i not in wide)
+                 or any((np.asarray(f) == _MARK[0]).any() for f in fields)):
+        wide = set()  # bytes that are not UTF-8 text: no marker
+    # the row's pieces at their offsets: ("numbers", values, first), ("bytes", matrix)
+    # or ("table", table, picks), and constant bytes (separators, line break, marker)
+    layout: list[tuple[int, tuple]] = []
+    constants: list[tuple[int, bytes]] = []
+    by_row = []  # the cells of each wide column, one per row
+    offset = 0
     i = 0
     while i < len(columns):
         kind, data = columns[i]
@@ -415,46 +437,63 @@ def body_bytes(columns: Sequence[tuple[str, object]], n: int, sep: str,
             while j < len(columns) and columns[j][0] == "float":
                 j += 1
             block = [np.asarray(columns[k][1], dtype=float) for k in range(i, j)]
-            values = np.column_stack(block) if len(block) > 1 else block[0][:, None]
-            pieces.append(("numbers", values, i == 0))
+            values = (block[0] if len(block) == 1 and block[0].ndim == 2
+                      else np.column_stack(block))  # rows are copied in slices when formatted
+            offset = -(-offset // 8) * 8  # aligned words (NUL bytes in between are dropped)
+            layout.append((offset, ("numbers", values, i == 0)))
+            offset += NUMBER_WIDTH * values.shape[1]
         else:
             if i:
-                pieces.append(("bytes", np.full((n, 1), ord(sep), np.uint8)))
-            if kind == "text":
-                cells, codes = data
-                every = b"".join(cells)
-                if b"\0" in every:
-                    return None
-                codes = np.asarray(codes)
-                picks = np.where(codes < 0, len(cells), codes)
-                table = np.array([*cells, b""], dtype=bytes)
-                if table.dtype.itemsize > _WIDE:
-                    wide.append(np.array([*cells, b""], dtype=object)[picks])
-                    marks.append(len(pieces))
-                    pieces.append(("bytes", np.full((n, 1), _MARK[0], np.uint8)))
-                    i = j
-                    continue
-                narrow_text.append(every)
-                data = text_fields(cells, codes)
+                constants.append((offset, sep.encode()))
+                offset += 1
+            if i in wide:
+                cells, picks = texts[i][:2]
+                by_row.append(np.array([*cells, b""], dtype=object)[picks])
+                constants.append((offset, _MARK))
+                offset += 1
             else:
-                narrow_text.append(np.asarray(data, dtype=np.uint8).tobytes())
-            pieces.append(("bytes", data))
+                if kind == "text":
+                    table = _text_table(*texts[i][3:])
+                    width = table.shape[1]
+                    piece = ("table", table, texts[i][1])
+                else:
+                    piece = ("bytes", np.asarray(data, dtype=np.uint8))
+                    width = piece[1].shape[1]
+                layout.append((offset, piece))
+                offset += width
         i = j
-    pieces.append(("bytes", np.full((n, 1), ord("\n"), np.uint8)))
-    if wide and any(_MARK in t for t in narrow_text):
-        return None
-    by_row = np.column_stack(wide) if wide else None
-    out: list[bytes] = [head]  # joined once: the body is not copied again after the head
+    constants.append((offset, b"\n"))
+    width = -(-(offset + 1) // 8) * 8
+    rows = min(n, _ROWS)
+    buffer = bytearray(rows * width)  # NUL bytes, and reused: no fresh pages per block
+    matrix = np.frombuffer(buffer, dtype=np.uint8).reshape(rows, width)
+    for at, text in constants:
+        matrix[:, at:at + len(text)] = np.frombuffer(text, dtype=np.uint8)
+    cells_by_row = np.column_stack(by_row) if by_row else None
+    out: list = [head]
     for start in range(0, n, _ROWS):  # a few thousand rows at a time: cache-sized matrices
-        rows = slice(start, start + _ROWS)
-        parts = [number_fields(p[1][rows], sep, first=p[2]) if p[0] == "numbers" else p[1][rows]
-                 for p in pieces]
-        narrow = np.concatenate(parts, axis=1).tobytes().translate(None, b"\0")
-        if by_row is None:
+        block = slice(start, start + _ROWS)
+        k = min(_ROWS, n - start)
+        for at, piece in layout:
+            if piece[0] == "numbers":
+                values = piece[1][block]
+                c = values.shape[1]
+                area = matrix[:k, at:at + NUMBER_WIDTH * c]
+                _number_rows(values, area.view(np.uint64).reshape(k, c, 2), sep)
+                if piece[2]:
+                    area[:, 0] = 0  # no separator before the first column
+            elif piece[0] == "table":
+                table = piece[1]
+                matrix[:k, at:at + table.shape[1]] = table[piece[2][block]]
+            else:
+                matrix[:k, at:at + piece[1].shape[1]] = piece[1][block]
+        full = buffer if k == rows else buffer[:k * width]
+        narrow = full.translate(None, b"\0")
+        if cells_by_row is None:
             out.append(narrow)
             continue
-        between = narrow.split(_MARK)
-        cells = by_row[rows].reshape(-1).tolist()
+        between = bytes(narrow).split(_MARK)  # bytes split faster than a bytearray
+        cells = cells_by_row[block].reshape(-1).tolist()
         joined: list = [None] * (len(between) + len(cells))
         joined[0::2] = between
         joined[1::2] = cells

@@ -262,7 +262,11 @@ def _object_cells(values: np.ndarray, sep: str) -> list[str]:
 
 
 def _column_kind(series: pd.Series) -> str:
-    kind = series.dtype.kind
+    return _dtype_kind(series.dtype)
+
+
+def _dtype_kind(dtype) -> str:
+    kind = dtype.kind
     if kind == "f":
         return "float"
     if kind in "iu":
@@ -308,13 +312,21 @@ def _factorize_texts(values: np.ndarray) -> tuple[np.ndarray, list[str]]:
 
 def _body_bulk(frame: pd.DataFrame, sep: str, head: bytes = b"") -> bytes | None:
     """``head`` and the bytes of :func:`_body_python`, laid out by :mod:`estimator.bulk_text`."""
-    columns = []
-    for name in frame.columns:
-        s = frame[name]
-        kind = _column_kind(s)
-        if kind == "float":
-            columns.append(("float", s.to_numpy(dtype=float, na_value=np.nan)))
+    columns: list[tuple[str, object]] = []
+    kinds = [_dtype_kind(dtype) for dtype in frame.dtypes]
+    k = 0
+    while k < len(kinds):
+        kind = kinds[k]
+        if kind == "float":  # a run of number columns: one array (not one per column)
+            end = k + 1
+            while end < len(kinds) and kinds[end] == "float":
+                end += 1
+            columns.append(("float", frame.iloc[:, k:end].to_numpy(dtype=float,
+                                                                   na_value=np.nan)))
+            k = end
             continue
+        s = frame.iloc[:, k]
+        k += 1
         if kind in ("int", "bool"):
             codes, uniques = pd.factorize(s.to_numpy())
             cells = [str(v).encode("utf-8") for v in uniques.tolist()]

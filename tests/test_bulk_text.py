@@ -174,14 +174,14 @@ def test_plain_wide_texts_stay_plain_and_get_no_quotes():
     assert csv_text(frame) == csv_text(frame, fast=False)
 
 
-def test_the_marker_byte_in_a_narrow_cell_leaves_the_layout_to_the_caller():
-    # 0xFF never occurs in UTF-8 text; other bytes from a caller are not laid out around it
-    cells = [b"a\xffb"]
+def test_the_marker_byte_in_a_narrow_cell_keeps_wide_cells_in_the_matrix():
+    # regression test: 0xFF never occurs in UTF-8 text; other bytes from a caller are
+    # laid out without the marker
     wide = [b"w" * 40]
-    columns = [("text", (cells, np.zeros(3, dtype=np.intp))),
-               ("text", (wide, np.zeros(3, dtype=np.intp)))]
-    assert body_bytes(columns, 3, ",") is None
-    assert body_bytes(columns[:1], 3, ",") == b"a\xffb\n" * 3
+    for narrow in (("text", ([b"a\xffb"], np.zeros(3, dtype=np.intp))),
+                   ("fields", np.frombuffer(b"a\xffb" * 3, dtype=np.uint8).reshape(3, 3))):
+        columns = [narrow, ("text", (wide, np.zeros(3, dtype=np.intp)))]
+        assert body_bytes(columns, 3, ",") == (b"a\xffb," + wide[0] + b"\n") * 3
 
 
 def test_factorize_texts_gives_the_codes_of_pandas_factorize():
