@@ -225,3 +225,25 @@ def test_numbers_next_to_every_power_of_ten_read_as_printf_writes_them():
 def test_the_first_column_has_no_separator_and_the_others_have_one():
     f = number_fields(np.array([[1.5, np.nan, -2.0], [np.nan, 0.0, 1e-9]]), ";", first=True)
     assert [bytes(r).replace(b"\0", b"").decode() for r in f] == ["1.5;;-2", ";0;1e-09"]
+
+
+@pytest.mark.parametrize("n", [1, 2, 2047, 2048, 2049, 4097])
+def test_tables_of_every_column_mix_and_block_edge_give_the_cell_by_cell_bytes(n):
+    # regression test: random column orders and kinds, row counts on both sides of the
+    # block size, against the plain Python formatting of every cell
+    rng = np.random.default_rng(n)
+    values = np.concatenate([_edge_values(), _random_values(max(n, 10), n)])
+    makers = {
+        "float": lambda: rng.choice(values, n),
+        "int": lambda: rng.integers(-1000, 1000, n),
+        "bool": lambda: rng.integers(0, 2, n).astype(bool),
+        "short": lambda: [HOSTILE[k] for k in rng.integers(0, len(HOSTILE), n).tolist()],
+        "wide": lambda: [WIDE_TEXTS[k] for k in rng.integers(0, len(WIDE_TEXTS), n).tolist()],
+        "plain": lambda: [f"lot-{k}" for k in rng.integers(0, 50, n).tolist()],
+    }
+    for trial in range(4):
+        kinds = rng.choice(list(makers), size=int(rng.integers(1, 9)))
+        frame = pd.DataFrame({f"{kind}{i}": makers[kind]() for i, kind in enumerate(kinds)})
+        for sep in (",", "\t"):
+            assert csv_text(frame, sep=sep) == csv_text(frame, sep=sep, fast=False), (
+                trial, list(kinds), sep)
