@@ -9,7 +9,7 @@ its place and its cells are joined in between. Numbers are formatted with array
 arithmetic and table look-ups, not one Python call per cell, and give the same text as
 ``"%.6g" % value`` of the value rounded to six significant digits, about 25 times
 faster than formatting cell by cell (a whole ``predict`` table, text and layout
-included: about 6 times). Text columns are formatted once per distinct value.
+included: about 7 times). Text columns are formatted once per distinct value.
 
 The few number cells that ``%g`` writes with an exponent (below 1e-4 or from 1e6 up,
 and infinities) go through Python's own formatting.
