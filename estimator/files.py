@@ -601,6 +601,49 @@ class TableWriter:
             self._workbook.write(frame)
         self.rows += len(frame)
 
+    def encode(self, frame: pd.DataFrame) -> tuple[list, int, object]:
+        """``(columns, rows, data)`` that :meth:`write_encoded` appends as :meth:`write` would.
+
+        ``data`` is the bytes of the rows (CSV/TSV without the header, JSON records) or,
+        for XLSX, the frame itself. It reads nothing of this writer's state but the file
+        type, so another process may do it (:func:`estimator.parallel.map_in_order`).
+        """
+        if self.suffix in (".csv", ".tsv"):
+            data = csv_text(frame, sep="," if self.suffix == ".csv" else "\t", header=False)
+        elif self.suffix == ".json":
+            data = _json_records(frame).encode("utf-8")
+        else:
+            data = frame
+        return list(frame.columns), len(frame), data
+
+    def write_encoded(self, encoded: tuple[list, int, object]) -> bool:
+        """Append rows from :meth:`encode`; False (nothing written) when their columns
+        are not the file's (then :meth:`write` the frame: it puts the columns in order)."""
+        columns, rows, data = encoded
+        if self._columns is not None and columns != self._columns:
+            return False
+        try:
+            if self.suffix == ".xlsx":
+                self._write(data)
+                return True
+            first = self._columns is None
+            if first:
+                self._columns = columns
+            if self.suffix in (".csv", ".tsv"):
+                if first:
+                    self._fh.write(_header(columns, "," if self.suffix == ".csv" else "\t")
+                                   .encode("utf-8"))
+                self._fh.write(data)
+            else:
+                if first:
+                    self._fh.write(b"[")
+                if data:
+                    self._fh.write((b",\n" if self.rows else b"\n") + data)
+            self.rows += rows
+        except OSError as exc:
+            raise _renamed(exc, self.path) from None
+        return True
+
     def _finish(self) -> None:
         if self._columns is None:  # nothing written: an empty table
             self._write(pd.DataFrame())

@@ -1,4 +1,5 @@
-"""Run independent jobs (refits of properties, figures to draw) in forked workers.
+"""Run independent jobs (refits of properties, figures to draw, pieces of a large
+``predict``) in forked workers.
 
 The refits of two properties share nothing, and a refit is almost all small,
 single-threaded scikit-learn fits (BLAS is held to one thread, see
@@ -7,6 +8,10 @@ are drawn one by one by Agg. On a machine with two or more cores such jobs run s
 by side. Workers are *forked*: they inherit the already imported libraries and the
 job's inputs, so nothing is imported or pickled twice; only the results travel back.
 A shared counter carries the workers' progress to the parent's progress bar.
+
+:func:`map_in_order` streams: it takes items one by one from an iterator read here
+(pieces of a large input file), hands each to an idle worker and gives the results
+back in the items' order, with at most a few items in flight, so memory stays flat.
 
 Results do not depend on the number of workers: every fit is seeded by the job,
 never by the process, and a figure's pixels do not depend on where it is drawn.
@@ -20,11 +25,13 @@ from __future__ import annotations
 import multiprocessing
 import multiprocessing.connection
 import os
+import signal
 import time
-from collections.abc import Callable, Sequence
+from collections import deque
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from typing import Any
 
-__all__ = ["ENV_WORKERS", "STALL_SECONDS", "run_jobs", "worker_count"]
+__all__ = ["ENV_WORKERS", "STALL_SECONDS", "map_in_order", "run_jobs", "worker_count"]
 
 #: Environment variable that caps the number of worker processes (``1``: no workers).
 ENV_WORKERS = "FAME_ESTIMATOR_WORKERS"
@@ -37,6 +44,7 @@ STALL_SECONDS = 60.0
 # set in the parent just before forking; the children read them (inherited memory)
 _JOBS: tuple[Callable[..., Any], Sequence[Any]] | None = None
 _COUNTER: Any = None
+_STREAM_FUNC: Callable[[Any], Any] | None = None
 
 
 class _Stalled(Exception):
@@ -157,3 +165,173 @@ def _forked(func, items, workers, progress) -> list[Any]:
                 error = RuntimeError(*args)
             raise error
     return [results[index][1] for index in range(len(items))]
+
+
+def _rebuilt(value) -> Exception:
+    """The exception a worker sent back as ``(type, args)``."""
+    kind, args = value
+    try:
+        return kind(*args)
+    except Exception:  # an error type built from other arguments
+        return RuntimeError(*args)
+
+
+def _one_blas_thread() -> None:  # pragma: no cover - runs in a child
+    """Hold BLAS to one thread in this worker: the workers already fill the cores, and
+    a BLAS thread per core in each worker only adds waiting (threadpoolctl comes with
+    scikit-learn; without it, nothing changes)."""
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:
+        return
+    threadpool_limits(1)
+
+
+def _stream_worker(conn) -> None:  # pragma: no cover - runs in a child
+    """Answer ``(index, item)`` messages with ``(index, status, value)`` until None."""
+    # the parent alone reacts to Ctrl-C and SIGTERM (its handler removes its temporary
+    # files, which a worker must never do); it kills the workers when it stops
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    _one_blas_thread()
+    func = _STREAM_FUNC
+    while True:
+        try:
+            message = conn.recv()
+        except EOFError:
+            break
+        if message is None:
+            break
+        index, item = message
+        try:
+            reply = (index, "ok", func(item))
+        except Exception as exc:  # sent back and raised again in the parent
+            reply = (index, "error", (type(exc), exc.args))
+        conn.send(reply)
+    conn.close()
+
+
+def map_in_order(
+    func: Callable[[Any], Any],
+    items: Iterable[Any],
+    *,
+    ahead: int = 2,
+) -> Iterator[tuple[Any, Any]]:
+    """``((item, func(item)) for item in items)``, computed in forked workers where that helps.
+
+    ``items`` is read here, lazily; each item is pickled to an idle worker and its
+    result pickled back. Pairs come out in the items' order. At most ``ahead`` items
+    per worker are read and not yet given out, so memory stays flat however long
+    ``items`` is. Workers start once a second item is read (one item runs here).
+
+    An error raised by ``items`` comes out at once; an error of ``func`` comes out,
+    as its own type with its message, when its item's turn comes. Should the workers
+    stall (no result for :data:`STALL_SECONDS`) or die, they are killed and the rest
+    runs here, with the same results.
+
+    Examples
+    --------
+    >>> [result for _, result in map_in_order(abs, [-2, 3, -4])]
+    [2, 3, 4]
+    """
+    it = iter(items)
+    first = next(it, _END)
+    if first is _END:
+        return
+    second = next(it, _END)
+    if second is _END:
+        yield first, func(first)
+        return
+    workers = worker_count(1 + max(int(ahead), 1))
+    held: deque[tuple[Any, Any]] = deque([(0, first), (1, second)])  # read, not given out
+    if workers > 1:
+        try:
+            yield from _stream(func, it, held, workers, max(int(ahead), 1))
+            return
+        except _Stalled:
+            pass  # ``held`` has every item read and not yet given out
+    for _, item in held:
+        yield item, func(item)
+    for item in it:
+        yield item, func(item)
+
+
+_END = object()
+
+
+def _stream(func, it, held, workers, ahead):
+    """The forked part of :func:`map_in_order`; raises _Stalled with ``held`` intact."""
+    global _STREAM_FUNC
+    ctx = multiprocessing.get_context("fork")
+    _STREAM_FUNC = func
+    procs, conns = [], []
+    try:
+        for _ in range(workers):
+            mine, theirs = ctx.Pipe(duplex=True)
+            proc = ctx.Process(target=_stream_worker, args=(theirs,), daemon=True)
+            proc.start()
+            theirs.close()
+            procs.append(proc)
+            conns.append(mine)
+    finally:
+        _STREAM_FUNC = None
+    try:
+        # an item is sent only to an idle worker (one blocked on receiving), so a
+        # large item and a large result never wait on each other in full pipes
+        idle = list(range(workers))
+        running: dict[Any, int] = {}  # connection -> index of its item
+        results: dict[int, tuple[str, Any]] = {}
+        sent = 0  # items of ``held`` (in order) handed out so far, from ``held[0]``
+        next_index = held[-1][0] + 1
+        exhausted = False
+        last_change = time.monotonic()
+        while True:
+            while idle and sent < len(held):
+                index, item = held[sent]
+                w = idle.pop()
+                conns[w].send((index, item))
+                running[conns[w]] = index
+                sent += 1
+            while held and held[0][0] in results:
+                index, item = held.popleft()
+                sent -= 1
+                status, value = results.pop(index)
+                if status == "error":
+                    raise _rebuilt(value)
+                yield item, value
+            if not exhausted and len(held) < ahead * workers:
+                item = next(it, _END)
+                if item is _END:
+                    exhausted = True
+                else:
+                    held.append((next_index, item))
+                    next_index += 1
+                continue
+            if not held:
+                return
+            for conn in multiprocessing.connection.wait(list(running), timeout=0.2):
+                try:
+                    index, status, value = conn.recv()
+                except EOFError:  # the worker died
+                    raise _Stalled from None
+                results[index] = (status, value)
+                del running[conn]
+                idle.append(conns.index(conn))
+                last_change = time.monotonic()
+            if running and time.monotonic() - last_change > STALL_SECONDS:
+                raise _Stalled
+            if not running and sent < len(held) and not idle:  # pragma: no cover
+                raise _Stalled
+    finally:
+        for conn in conns:
+            try:
+                conn.send(None)
+            except OSError:
+                pass
+        for proc in procs:
+            proc.join(timeout=0.5)
+            if proc.is_alive():
+                proc.kill()
+                proc.join(timeout=5)
+        for conn in conns:
+            conn.close()

@@ -2,12 +2,16 @@
 
 Reads each input in pieces (:func:`estimator.profiles.io.read_profile_chunks`),
 estimates each piece with :func:`estimator.workflows.predict` and appends it to the
-output (:class:`estimator.files.TableWriter`, atomic). The table is the one
+output (:class:`estimator.files.TableWriter`, atomic). With several pieces and cores,
+pieces are estimated and laid out as text in forked workers
+(:func:`estimator.parallel.map_in_order`) while this process reads the next ones and
+writes the text in order. The table is the one
 ``predict(...).wide`` gives for the whole input at once; a test compares the two.
 """
 
 from __future__ import annotations
 
+import contextlib
 from collections.abc import Callable, Sequence
 from pathlib import Path
 
@@ -16,6 +20,7 @@ import pandas as pd
 
 from estimator.errors import ProfileError
 from estimator.files import TableWriter
+from estimator.parallel import map_in_order
 from estimator.profiles.io import read_profile_chunks
 from estimator.profiles.profile import DEFAULT_SUM_TOLERANCE, Profile
 from estimator.workflows import predict
@@ -62,18 +67,30 @@ def predict_to_file(
         Rows written.
     """
     ids = _SampleIds()
-    with TableWriter(output) as out:
+    options = {"temperatures_C": temperatures_C, "models": models}
+
+    def pieces():
         for path in inputs:
             for part in read_profile_chunks(path, basis=basis, sum_tolerance=sum_tolerance,
                                             chunk_rows=chunk_rows, **chunk_options):
                 ids.add(part, Path(path).name)
-                out.write(predict(part, temperatures_C=temperatures_C, models=models).wide)
-                if progress is not None:
-                    progress(len(part))
+                yield part
         if oils:
             part = Profile.from_oils(oils)
             ids.add(part, "--oil")
-            out.write(predict(part, temperatures_C=temperatures_C, models=models).wide)
+            yield part
+
+    with TableWriter(output) as out:
+        def estimated(part: Profile):
+            # in a worker process when there are several pieces: only bytes come back
+            return out.encode(predict(part, **options).wide)
+
+        with contextlib.closing(map_in_order(estimated, pieces())) as results:
+            for part, encoded in results:
+                if not out.write_encoded(encoded):  # columns out of order: let write() fix
+                    out.write(predict(part, **options).wide)
+                if progress is not None:
+                    progress(len(part))
         ids.check()  # before the file is put in place
         return out.rows
 

@@ -236,3 +236,31 @@ def test_a_column_mixing_text_and_numbers_keeps_each_cell_kind(tmp_path, suffix)
 
         cells = [c.value for c in load_workbook(path).active["A"]]
         assert cells == ["m", "a", 1.23457, 5, True, None, None, "=2"]
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".tsv", ".json", ".xlsx"])
+def test_encoded_pieces_write_the_same_file_as_frames(tmp_path, suffix):
+    # regression test: encode + write_encoded (the path of forked workers) = write
+    a = pd.DataFrame({"sample": ["=A1", "b"], "x": [1.25, np.nan]})
+    b = pd.DataFrame({"sample": ["c"], "x": [-3.0]})
+    with TableWriter(tmp_path / f"plain{suffix}") as out:
+        out.write(a)
+        out.write(b.iloc[:0])
+        out.write(b)
+    with TableWriter(tmp_path / f"coded{suffix}") as out:
+        for frame in (a, b.iloc[:0], b):
+            assert out.write_encoded(out.encode(frame))
+    if suffix == ".xlsx":
+        pd.testing.assert_frame_equal(pd.read_excel(tmp_path / "coded.xlsx"),
+                                      pd.read_excel(tmp_path / "plain.xlsx"))
+    else:
+        assert (tmp_path / f"coded{suffix}").read_bytes() == (
+            tmp_path / f"plain{suffix}").read_bytes()
+
+
+def test_an_encoded_piece_with_other_columns_is_refused_so_write_can_order_them(tmp_path):
+    with TableWriter(tmp_path / "t.csv") as out:
+        assert out.write_encoded(out.encode(pd.DataFrame({"a": [1.0], "b": [2.0]})))
+        assert not out.write_encoded(out.encode(pd.DataFrame({"b": [4.0], "a": [3.0]})))
+        out.write(pd.DataFrame({"b": [4.0], "a": [3.0]}))
+    assert (tmp_path / "t.csv").read_text() == "a,b\n1,2\n3,4\n"

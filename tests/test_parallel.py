@@ -10,7 +10,7 @@ import pytest
 
 from estimator import parallel
 from estimator.errors import InputFileError
-from estimator.parallel import run_jobs, worker_count
+from estimator.parallel import map_in_order, run_jobs, worker_count
 
 
 def _square(item: int, tick) -> int:
@@ -100,3 +100,96 @@ def test_stalled_workers_are_killed_and_the_jobs_run_here(monkeypatch):
 def test_a_worker_that_dies_leaves_the_jobs_to_this_process(monkeypatch):
     monkeypatch.setenv(parallel.ENV_WORKERS, "2")
     assert run_jobs(_dies_in_a_worker, [1, 2, 3]) == [2, 3, 4]
+
+
+# --- map_in_order: a stream of items (pieces of a large predict) ---------------------
+
+def _negate(item: int) -> int:
+    return -item
+
+
+def _refuse_three(item: int) -> int:
+    if item == 3:
+        raise InputFileError(f"lots.csv: piece {item} refused")
+    return item
+
+
+def _hang_in_stream_worker(item: int) -> int:
+    if os.getpid() != _PARENT:
+        time.sleep(3600)
+    return item * 10
+
+
+def _die_in_stream_worker(item: int) -> int:
+    if os.getpid() != _PARENT:
+        os._exit(3)
+    return item * 10
+
+
+def _pid(item: int) -> int:
+    return os.getpid()
+
+
+def test_a_stream_comes_back_in_order_from_the_workers(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    pairs = list(map_in_order(_negate, iter(range(25))))
+    assert pairs == [(i, -i) for i in range(25)]
+    # and the work was done elsewhere
+    assert os.getpid() not in {pid for _, pid in map_in_order(_pid, range(6))}
+
+
+def test_a_stream_reads_only_a_few_items_ahead_of_what_is_taken(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    read: list[int] = []
+
+    def items():
+        for i in range(100):
+            read.append(i)
+            yield i
+
+    stream = map_in_order(_negate, items(), ahead=2)
+    assert next(stream) == (0, 0)
+    time.sleep(0.2)
+    assert len(read) <= 1 + 2 * 2 + 1  # the one given out, 2 per worker, the one being read
+    stream.close()
+
+
+def test_a_stream_of_one_item_runs_here_without_workers(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    assert list(map_in_order(_pid, [7])) == [(7, os.getpid())]
+    assert list(map_in_order(_pid, [])) == []
+
+
+def test_a_stream_error_comes_out_in_turn_with_its_type(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    got = []
+    with pytest.raises(InputFileError, match="lots.csv: piece 3 refused"):
+        for _, value in map_in_order(_refuse_three, range(8)):
+            got.append(value)
+    assert got == [0, 1, 2]
+
+
+def test_an_error_of_the_items_themselves_stops_the_stream(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+
+    def items():
+        yield from range(5)
+        raise InputFileError("lots.csv: row 9, column 'C16:0': not a number")
+
+    with pytest.raises(InputFileError, match="row 9"):
+        list(map_in_order(_negate, items()))
+
+
+def test_a_stalled_stream_runs_the_rest_here(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    monkeypatch.setattr(parallel, "STALL_SECONDS", 1.0)
+    start = time.monotonic()
+    assert [v for _, v in map_in_order(_hang_in_stream_worker, range(9))] == [
+        i * 10 for i in range(9)]
+    assert time.monotonic() - start < 30
+
+
+def test_a_stream_whose_worker_dies_runs_the_rest_here(monkeypatch):
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    assert [v for _, v in map_in_order(_die_in_stream_worker, range(9))] == [
+        i * 10 for i in range(9)]

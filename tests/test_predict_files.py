@@ -70,3 +70,40 @@ def test_a_sample_id_repeated_in_a_later_piece_names_both_rows(tmp_path):
                                            r"sample id \(also in row 4\)"):
         predict_to_file([lots], out, chunk_rows=5, min_bytes=0)
     assert not out.exists() and list(tmp_path.iterdir()) == [lots]
+
+
+@pytest.mark.parametrize("suffix", [".csv", ".tsv", ".json", ".xlsx"])
+def test_pieces_estimated_in_workers_give_the_same_file(tmp_path, monkeypatch, suffix):
+    # regression test: forked workers lay out the same bytes as this process
+    from estimator import parallel
+
+    lots = tmp_path / "lots.csv"
+    _random_lots(lots, 61, 12)
+    here, there = tmp_path / f"here{suffix}", tmp_path / f"there{suffix}"
+    monkeypatch.setenv(parallel.ENV_WORKERS, "1")
+    assert predict_to_file([lots], here, chunk_rows=8, min_bytes=0, oils=["palm"]) == 62
+    monkeypatch.setenv(parallel.ENV_WORKERS, "2")
+    assert predict_to_file([lots], there, chunk_rows=8, min_bytes=0, oils=["palm"]) == 62
+    if suffix == ".xlsx":
+        pd.testing.assert_frame_equal(pd.read_excel(there), pd.read_excel(here))
+    else:
+        assert there.read_bytes() == here.read_bytes()
+
+
+@pytest.mark.parametrize("workers", ["1", "2"])
+def test_a_bad_row_in_a_later_piece_leaves_no_file(tmp_path, monkeypatch, workers):
+    from estimator import parallel
+    from estimator.errors import InputFileError
+
+    monkeypatch.setenv(parallel.ENV_WORKERS, workers)
+    lots = tmp_path / "lots.csv"
+    _random_lots(lots, 40, 13)
+    lines = lots.read_text().splitlines()
+    cells = lines[33].split(",")
+    cells[2] = "abc"
+    lines[33] = ",".join(cells)
+    lots.write_text("\n".join(lines) + "\n")
+    out = tmp_path / "out.csv"
+    with pytest.raises((InputFileError, ProfileError), match=r"lots\.csv: row 34"):
+        predict_to_file([lots], out, chunk_rows=5, min_bytes=0)
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["lots.csv"]

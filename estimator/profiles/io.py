@@ -675,13 +675,14 @@ def read_profile_chunks(
         return
     first_row = 2
     try:
-        reader = pd.read_csv(path, **options, chunksize=chunk_rows)
-        for table in reader:
-            table.columns = [str(c).strip() for c in table.columns]
-            rows = np.arange(first_row, first_row + len(table))
-            first_row += len(table)
-            yield _wide_to_profile(table, rows, label, basis, sum_tolerance, (),
-                                   fractions=fractions)
+        # closed however the reading ends (a bad row, or the caller stopping early)
+        with pd.read_csv(path, **options, chunksize=chunk_rows) as reader:
+            for table in reader:
+                table.columns = [str(c).strip() for c in table.columns]
+                rows = np.arange(first_row, first_row + len(table))
+                first_row += len(table)
+                yield _wide_to_profile(table, rows, label, basis, sum_tolerance, (),
+                                       fractions=fractions)
     except UnicodeDecodeError:
         raise InputFileError(f"{label}: not a UTF-8 text file (near row {first_row})") from None
     except pd.errors.ParserError as exc:
