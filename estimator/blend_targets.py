@@ -12,6 +12,7 @@ limiting target and whether the diesel alone already misses it.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -108,7 +109,13 @@ def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target
     results: dict[tuple[int, bool], np.ndarray] = {}
     hows: dict[int, np.ndarray] = {}
     curves: dict[str, tuple[np.ndarray, np.ndarray]] = {}
+    done: dict[tuple[str, str, float], int] = {}  # a limit two groups share is solved once
     for k, t in enumerate(targets):
+        same = done.setdefault((t.property, t.kind, t.limit), k)
+        if same != k:
+            results[k, False], results[k, True] = results[same, False], results[same, True]
+            hows[k] = hows[same]
+            continue
         if t.property not in curves:
             curves[t.property] = blend_arrays(fame, diesel, grid, only=t.property)[
                 t.property, BLEND_METHODS[t.property][0]]
@@ -147,21 +154,26 @@ def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target
                 found = found[len(root):]
                 results[k, with_error][root] = part
     failures = fame.en14214_failures or ("",) * len(fame.samples)
+    # per target once: the diesel's value, and the columns as Python floats and strings
+    per_target = []
+    for k, t in enumerate(targets):
+        d_value = diesel.value(t.property)
+        d_misses = bool(np.isfinite(d_value) and (
+            d_value > t.limit if t.kind == "max" else d_value < t.limit))
+        per_target.append((t, d_value, d_misses, results[k, False].tolist(),
+                           results[k, True].tolist(), hows[k].tolist()))
     rows_out = []
     for i, sample in enumerate(fame.samples):
         groups: dict[str, list] = {}
-        for k, t in enumerate(targets):
-            d_value = diesel.value(t.property)
-            d_misses = bool(np.isfinite(d_value) and (
-                d_value > t.limit if t.kind == "max" else d_value < t.limit))
-            level = float(results[k, False][i])
+        for t, d_value, d_misses, levels, levels_e, how in per_target:
+            level = float(levels[i])
             row = {
                 "sample": sample, "group": t.group, "target": t.label, "property": t.property,
                 "kind": t.kind, "limit": t.limit,
                 "highest_level_pct_v": level,
-                "highest_level_with_error_pct_v": float(results[k, True][i]),
-                "how": str(hows[k][i]), "diesel_value": d_value, "diesel_misses": d_misses,
-                "reason": _reason(t, level, d_misses, d_value, str(hows[k][i])),
+                "highest_level_with_error_pct_v": float(levels_e[i]),
+                "how": str(how[i]), "diesel_value": d_value, "diesel_misses": d_misses,
+                "reason": _reason(t, level, d_misses, d_value, str(how[i])),
                 "source": t.source,
             }
             rows_out.append(row)
@@ -175,7 +187,7 @@ def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target
 
 def _reason(t: Target, level: float, diesel_misses: bool, diesel_value: float, how: str) -> str:
     """Why a target gives no level or B0 ('' otherwise)."""
-    if np.isfinite(level) and level >= 0.05:
+    if math.isfinite(level) and level >= 0.05:
         return ""
     if diesel_misses:
         return f"diesel alone misses {t.label} ({diesel_value:g})"
@@ -190,10 +202,10 @@ def _group_row(sample: str, group: str, members: list, fame_failures: str = "") 
 
     def lowest(key):
         vals = [r[key] for _, r in members]
-        return np.nan if any(np.isnan(v) for v in vals) else min(vals)
+        return np.nan if any(math.isnan(v) for v in vals) else min(vals)
 
     def capped(v):
-        if np.isnan(v):
+        if math.isnan(v):
             return np.nan
         v = min(v, cap)
         return v if v >= floor else np.nan
@@ -201,7 +213,7 @@ def _group_row(sample: str, group: str, members: list, fame_failures: str = "") 
     raw = lowest("highest_level_pct_v")
     lvl, lvl_e = capped(raw), capped(lowest("highest_level_with_error_pct_v"))
     limiting_rows = [r for _, r in members
-                     if np.isnan(r["highest_level_pct_v"]) or r["highest_level_pct_v"] == raw]
+                     if math.isnan(r["highest_level_pct_v"]) or r["highest_level_pct_v"] == raw]
     limiting = [r["target"] for r in limiting_rows]
     diesel_misses = any(r["diesel_misses"] for r in limiting_rows)
     name = _SPEC_NAMES.get(group, group)
@@ -210,7 +222,7 @@ def _group_row(sample: str, group: str, members: list, fame_failures: str = "") 
         how = (f"FAME fails EN 14214 ({fame_failures}); {name} admits only FAME meeting "
                "EN 14214")
         reason = f"FAME fails EN 14214 ({fame_failures})"
-    elif np.isnan(lvl):
+    elif math.isnan(lvl):
         how = f"no level from B{floor:g} to B{cap:g} meets {', '.join(limiting)}"
         reason = "; ".join(r["reason"] for r in limiting_rows if r["reason"]) or (
             f"{', '.join(limiting)} met only below B{floor:g}, the least {name} covers")

@@ -39,7 +39,15 @@ def cli() -> None:
 
 def main() -> None:
     """Console-script entry point."""
-    cli(prog_name="fame-estimator")
+    try:
+        cli(prog_name="fame-estimator")
+    finally:
+        # The process ends here: freezing the objects spares the interpreter's closing
+        # garbage collections over every module's objects (0.1-0.2 s with pandas
+        # loaded); files are closed and atexit hooks run as before.
+        import gc
+
+        gc.freeze()
 
 
 # ---------------------------------------------------------------- commands

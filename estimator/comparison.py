@@ -367,20 +367,24 @@ def unfixable_failures(long: pd.DataFrame, samples: Sequence[str],
     lim = specs.limits(spec)
     samples = [str(x) for x in samples]
     prop = long["property"].astype(str).to_numpy()
+    # the columns once, then the rows of each limit's property by position
+    values = long["value"].to_numpy(dtype=float)
+    errors = long["error"].to_numpy(dtype=float)
+    sample_col = long["sample"].astype(str).to_numpy()
     unfix: dict[str, list[str]] = {s: [] for s in samples}
     fix: dict[str, list[str]] = {s: [] for s in samples}
     for row in lim.itertuples(index=False):
-        rows = long[prop == row.property]
-        if rows.empty:
+        rows = np.flatnonzero(prop == row.property)
+        if not len(rows):
             continue
-        value = rows["value"].to_numpy(dtype=float)
-        error = 0.0 if row.exact_from_composition else rows["error"].to_numpy(dtype=float)
+        value = values[rows]
+        error = 0.0 if row.exact_from_composition else errors[rows]
         error = np.broadcast_to(np.asarray(error, dtype=float), value.shape)
         verdict = specs._verdicts(value, error, np.full(value.shape, float(row.limit)),
                                   np.full(value.shape, row.bound == "min"))
         target = fix if row.property in FIXABLE_BY_TREATMENT else unfix
         label = specs.PROPERTY_LABELS.get(row.property, row.property)
-        for sample in rows["sample"].astype(str).to_numpy()[verdict == "fails"]:
+        for sample in sample_col[rows][verdict == "fails"]:
             if sample in target and label not in target[sample]:
                 target[sample].append(label)
     return ([", ".join(unfix[s]) for s in samples], [", ".join(fix[s]) for s in samples])

@@ -204,21 +204,26 @@ def limits(specs: str | Sequence[str], climate_class: str | None = None) -> pd.D
     """
     names = _normalise_specs(specs)
     cls = normalise_climate_class(climate_class)
-    table = spec_table()
-    table = table[table["spec"].isin(names)].copy()
+    table, keys = _limit_rows()
+    # rows of each named spec in file order: its general rows, a class row replacing the
+    # general row of the same property and bound (row picking in Python: a few hundred
+    # rows, called several times per command)
+    replaced = {key[:3] for key in keys if key[3] == cls} if cls is not None else set()
+    rows = [i for name in names for i, key in enumerate(keys) if key[0] == name
+            and ((key[3] is None and key[:3] not in replaced) or (cls is not None
+                                                                  and key[3] == cls))]
+    return table.take(rows).reset_index(drop=True)
+
+
+@cache
+def _limit_rows() -> tuple[pd.DataFrame, tuple[tuple[str, str, str, str | None], ...]]:
+    """The spec table with ``bound`` and ``limit`` columns, and (spec, property, bound,
+    climate class) per row (callers must not modify the frame)."""
+    table = spec_table().copy()
     table["bound"] = np.where(table["min"].notna(), "min", "max")
     table["limit"] = table["min"].where(table["min"].notna(), table["max"])
-    general = table[table["climate_class"].isna()]
-    if cls is None:
-        chosen = general
-    else:
-        special = table[table["climate_class"] == cls]
-        keys = set(zip(special["spec"], special["property"], special["bound"]))
-        keep = [k not in keys for k in zip(general["spec"], general["property"], general["bound"])]
-        chosen = pd.concat([general[keep], special])
-    order = {name: i for i, name in enumerate(names)}
-    chosen = chosen.assign(_o=chosen["spec"].map(order), _r=chosen.index)
-    return chosen.sort_values(["_o", "_r"]).drop(columns=["_o", "_r"]).reset_index(drop=True)
+    keys = tuple(zip(table["spec"], table["property"], table["bound"], table["climate_class"]))
+    return table, keys
 
 
 def composition_estimates(wt_pct: np.ndarray, samples: Sequence[str]) -> pd.DataFrame:

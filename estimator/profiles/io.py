@@ -273,6 +273,8 @@ def _read_text(path: Path, find_header: bool = True) -> RawTable:
         scored = [(_header_score(_split(line, s)) if s in line else 0, line.count(s), s)
                   for s in seps]
         best.append(max(scored))
+        if not find_header or best[-1][0] >= 2:
+            break  # the header is the first row scoring 2: the rows below are not scored
     header_index = _find_header([score for score, _, _ in best]) if find_header else 0
     header = lines[header_index]
     if not header.strip():

@@ -250,32 +250,28 @@ def _int_set(value: object) -> frozenset[int]:
 @cache
 def _rows() -> tuple[_Row, ...]:
     """The species table as parser rows, in canonical order."""
-    table = species_table()
+    table = species_table().loc[list(species_keys())]
+    columns = zip(table.index, *(table[c].tolist() for c in  # columns, not cell by cell
+                                 ("carbons", "double_bonds", "trans", "hydroxyl", "delta")))
     return tuple(
-        _Row(
-            key=str(key),
-            carbons=int(table.at[key, "carbons"]),
-            double_bonds=int(table.at[key, "double_bonds"]),
-            trans=bool(table.at[key, "trans"]),
-            hydroxyl=bool(table.at[key, "hydroxyl"]),
-            delta=_int_set(table.at[key, "delta"]),
-        )
-        for key in species_keys()
+        _Row(key=str(key), carbons=int(carbons), double_bonds=int(double_bonds),
+             trans=bool(trans), hydroxyl=bool(hydroxyl), delta=_int_set(delta))
+        for key, carbons, double_bonds, trans, hydroxyl, delta in columns
     )
 
 
 @cache
 def _spellings() -> dict[str, str]:
     """Every spelling in the species table -> key; the first species wins a clash."""
-    table = species_table()
+    table = species_table().loc[list(species_keys())]
     spellings: dict[str, str] = {}
-    for key in species_keys():
-        row = table.loc[key]
-        names = [key, row["common_name"], row["systematic_name"]]
-        synonyms = row["synonyms"]
+    columns = zip(table.index, *(table[c].tolist() for c in  # columns, not row by row
+                                 ("common_name", "systematic_name", "synonyms", "fame_name")))
+    for key, common, systematic, synonyms, fame_name in columns:
+        names = [key, common, systematic]
         if isinstance(synonyms, str):
             names += [s.strip() for s in synonyms.split("|")]
-        names += [row["fame_name"], f"{row['common_name']} acid", f"{row['systematic_name']} acid"]
+        names += [fame_name, f"{common} acid", f"{systematic} acid"]
         for name in names:
             if isinstance(name, str) and name:
                 spellings.setdefault(name, str(key))

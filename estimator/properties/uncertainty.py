@@ -13,8 +13,8 @@ in quadrature:
    b. the *root mean square of the method's residuals* on the validation tables
       shipped with the package (``estimator/tables/validation_*.csv``: published
       measurements of pure esters and typical feedstock values, each with its source
-      and VERIFIED/MEMORY mark), computed by this code on first use, so the band
-      follows any change of the method. At least :data:`MIN_RESIDUALS` usable points
+      and VERIFIED/MEMORY mark), computed by this code (:func:`computed_band`), so the
+      band follows any change of the method. At least :data:`MIN_RESIDUALS` usable points
       (inside the fitted domain, not an input of the method itself, see the
       ``used_by`` column) are needed. Where both (a) and (b) exist the larger holds:
       a published statistic is a floor that our own evidence can only widen. A range
@@ -26,6 +26,14 @@ in quadrature:
       related property (:data:`BORROWED_BANDS`) and, per sample (only then
       evaluated), the standard deviation of the property's other methods or the
       method's stated fallback. The ``note`` says which applies.
+
+   The bands of the registered methods are also shipped ready-made in
+   ``estimator/tables/method_bands.csv`` (written by ``scripts/build_band_table.py``;
+   a regression test recomputes every row and fails when the file differs), so a
+   run reads them instead of evaluating every method on the validation tables. The
+   file records a digest of the tables the bands come from
+   (:data:`BAND_INPUT_TABLES`); when those tables differ, or for a method that is
+   not the registered one, the band is computed as above.
 
    **Outside the fitted domain** the band is multiplied by
    :data:`OUT_OF_DOMAIN_FACTOR` (3) and is at least the spread of the property's
@@ -42,9 +50,12 @@ in quadrature:
 
 from __future__ import annotations
 
+import csv
+import hashlib
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from functools import cache
+from importlib.resources import files
 
 import numpy as np
 import pandas as pd
@@ -54,6 +65,9 @@ from estimator.tables import load_table, species_keys
 
 __all__ = [
     "AAD_TO_SD",
+    "BAND_COLUMNS",
+    "BAND_INPUT_TABLES",
+    "BAND_TABLE",
     "BORROWED_BANDS",
     "DEFAULT_GC",
     "MAX_TO_SD",
@@ -63,15 +77,28 @@ __all__ = [
     "VERIFIED_STATISTICS",
     "Band",
     "GCRepeatability",
+    "band_inputs_digest",
+    "band_table_rows",
     "composition_sd",
+    "computed_band",
     "method_band",
     "parse_composition",
+    "read_band_table",
     "residuals",
     "validation_table",
 ]
 
 #: Validation tables (``estimator/tables/<name>.csv``).
 VALIDATION_TABLES = ("validation_pure_esters", "validation_feedstocks")
+#: The shipped bands of the registered methods (``estimator/tables/<name>.csv``), written
+#: by ``scripts/build_band_table.py``.
+BAND_TABLE = "method_bands"
+#: Columns of the band table, in order.
+BAND_COLUMNS = ("property", "method", "kind", "absolute", "relative", "n_residuals",
+                "with_fallback", "text", "inputs_digest")
+#: Tables the bands are computed from (validation values, the species data the methods
+#: and descriptors read, the typical oils behind ``oil:`` compositions).
+BAND_INPUT_TABLES = (*VALIDATION_TABLES, "species", "feedstocks")
 #: Usable residuals needed before their RMS sets a band on its own.
 MIN_RESIDUALS = 3
 #: Multiplier of the band outside the method's fitted domain (stated rule).
@@ -499,10 +526,33 @@ def _fmt(x: float) -> str:
 def method_band(prop: str, name: str) -> Band:
     """The evidence band of one method (rules in the module docstring).
 
+    The shipped band (:data:`BAND_TABLE`) of a registered method while the tables it
+    comes from are unchanged; otherwise :func:`computed_band`. Both are equal (a
+    regression test recomputes the shipped table).
+
     Examples
     --------
     >>> b = method_band("density_15C_kg_m3", "ramirezverduzco2022")
     >>> b.kind in ("published", "published+residuals")
+    True
+    """
+    m = get_method(prop, name)
+    if methods_for(prop).get(name) is m:  # the registered method, not a stand-in
+        shipped = _shipped_bands().get((prop, name))
+        if shipped is not None:
+            return shipped
+    return computed_band(prop, name)
+
+
+def computed_band(prop: str, name: str) -> Band:
+    """The evidence band of one method computed from its validation residuals.
+
+    Not cached itself (the residuals are); :func:`method_band` is the cached entry.
+
+    Examples
+    --------
+    >>> computed_band("density_15C_kg_m3", "ramirezverduzco2022") == method_band(
+    ...     "density_15C_kg_m3", "ramirezverduzco2022")
     True
     """
     m = get_method(prop, name)
@@ -547,7 +597,7 @@ def method_band(prop: str, name: str) -> Band:
     borrowed = False
     if prop in BORROWED_BANDS:
         other, factor = BORROWED_BANDS[prop]
-        b = method_band(other, DEFAULTS[other])
+        b = computed_band(other, DEFAULTS[other])
         if b.absolute is not None:
             parts.append(f"the {_WORDS.get(other, other)} band x {factor:.2f}")
             candidates.append(b.absolute * factor)
@@ -563,6 +613,70 @@ def method_band(prop: str, name: str) -> Band:
     return Band(prop, name, max(candidates) if candidates else None, relative, "weak", n,
                 "too little evidence: the largest of " + ", ".join(parts),
                 with_fallback=bool(fallback))
+
+
+# --- the shipped band table ------------------------------------------------------
+
+
+def band_inputs_digest() -> str:
+    """Digest of the tables the bands are computed from (:data:`BAND_INPUT_TABLES`).
+
+    The first 16 hex digits of the SHA-256 of their bytes; the band table records it,
+    and a different digest means the shipped bands may be out of date.
+    """
+    digest = hashlib.sha256()
+    for name in BAND_INPUT_TABLES:
+        data = files("estimator.tables").joinpath(f"{name}.csv").read_bytes()
+        digest.update(f"{name}.csv {len(data)}\n".encode())
+        digest.update(data)
+    return digest.hexdigest()[:16]
+
+
+def _number_text(x: float | None) -> str:
+    return "" if x is None else repr(float(x))  # repr: the float back exactly
+
+
+def band_table_rows(bands: Sequence[Band], digest: str) -> list[dict[str, str]]:
+    """The rows of the band table (:data:`BAND_COLUMNS`, text cells) for ``bands``."""
+    return [{
+        "property": b.prop, "method": b.method, "kind": b.kind,
+        "absolute": _number_text(b.absolute), "relative": _number_text(b.relative),
+        "n_residuals": str(b.n_residuals), "with_fallback": str(b.with_fallback).lower(),
+        "text": b.text, "inputs_digest": digest,
+    } for b in bands]
+
+
+def _band_from_row(row: Mapping[str, str]) -> Band:
+    def number(cell: str) -> float | None:
+        return float(cell) if cell else None
+
+    return Band(row["property"], row["method"], number(row["absolute"]),
+                number(row["relative"]), row["kind"], int(row["n_residuals"]), row["text"],
+                with_fallback=row["with_fallback"] == "true")
+
+
+def read_band_table() -> tuple[dict[tuple[str, str], Band], set[str]]:
+    """The shipped bands by (property, method), and the input digests the rows record.
+
+    An absent file reads as no bands.
+    """
+    try:
+        with files("estimator.tables").joinpath(f"{BAND_TABLE}.csv").open(
+                "r", encoding="utf-8", newline="") as fh:
+            rows = list(csv.DictReader(fh))
+    except FileNotFoundError:
+        return {}, set()
+    bands = {(r["property"], r["method"]): _band_from_row(r) for r in rows}
+    return bands, {r["inputs_digest"] for r in rows}
+
+
+@cache
+def _shipped_bands() -> Mapping[tuple[str, str], Band]:
+    """The shipped bands, or none when the tables they come from have changed."""
+    bands, digests = read_band_table()
+    if digests != {band_inputs_digest()}:
+        return {}
+    return bands
 
 
 def band_rows() -> pd.DataFrame:
