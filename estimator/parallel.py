@@ -73,20 +73,44 @@ def worker_count(n_jobs: int) -> int:
     return max(1, min(n_jobs, cores))
 
 
+def _child_setup(parent_pid: int, inherited: Sequence[Any]) -> None:  # pragma: no cover
+    """First steps of a worker: close the parent's ends of every pipe inherited at the
+    fork (a pipe must break when the parent is gone, not stay open in a sibling), and
+    die with the parent (Linux), so that no worker outlives a killed command."""
+    for conn in inherited:
+        try:
+            conn.close()
+        except OSError:
+            pass
+    try:
+        import ctypes
+
+        ctypes.CDLL(None, use_errno=True).prctl(1, signal.SIGKILL)  # PR_SET_PDEATHSIG
+    except (OSError, AttributeError):
+        pass
+    if os.getppid() != parent_pid:  # the parent died before the line above
+        os._exit(0)
+
+
 def _tick(n: int) -> None:
     with _COUNTER.get_lock():
         _COUNTER.value += n
 
 
-def _worker(indices: list[int], conn) -> None:  # pragma: no cover - runs in a child
+def _worker(indices: list[int], conn, parent_pid: int,
+            inherited: list) -> None:  # pragma: no cover - runs in a child
     """Run the jobs ``indices`` and send ``(index, status, value)`` for each."""
+    _child_setup(parent_pid, inherited)
     func, items = _JOBS
     for index in indices:
         try:
             message = (index, "ok", func(items[index], _tick))
         except Exception as exc:  # sent back and raised again in the parent
             message = (index, "error", (type(exc), exc.args))
-        conn.send(message)
+        try:
+            conn.send(message)
+        except OSError:  # the parent is gone
+            return
     conn.close()
 
 
@@ -121,8 +145,9 @@ def _forked(func, items, workers, progress) -> list[Any]:
     try:
         for w in range(workers):
             receive, send = ctx.Pipe(duplex=False)
-            proc = ctx.Process(target=_worker, args=(list(range(w, len(items), workers)), send),
-                               daemon=True)
+            proc = ctx.Process(target=_worker, daemon=True,
+                               args=(list(range(w, len(items), workers)), send, os.getpid(),
+                                     [*conns, receive]))
             proc.start()
             send.close()
             procs.append(proc)
@@ -187,8 +212,9 @@ def _one_blas_thread() -> None:  # pragma: no cover - runs in a child
     threadpool_limits(1)
 
 
-def _stream_worker(conn) -> None:  # pragma: no cover - runs in a child
+def _stream_worker(conn, parent_pid: int, inherited: list) -> None:  # pragma: no cover
     """Answer ``(index, item)`` messages with ``(index, status, value)`` until None."""
+    _child_setup(parent_pid, inherited)
     # the parent alone reacts to Ctrl-C and SIGTERM (its handler removes its temporary
     # files, which a worker must never do); it kills the workers when it stops
     signal.signal(signal.SIGINT, signal.SIG_IGN)
@@ -198,7 +224,7 @@ def _stream_worker(conn) -> None:  # pragma: no cover - runs in a child
     while True:
         try:
             message = conn.recv()
-        except EOFError:
+        except (EOFError, OSError):  # the parent is gone
             break
         if message is None:
             break
@@ -207,7 +233,10 @@ def _stream_worker(conn) -> None:  # pragma: no cover - runs in a child
             reply = (index, "ok", func(item))
         except Exception as exc:  # sent back and raised again in the parent
             reply = (index, "error", (type(exc), exc.args))
-        conn.send(reply)
+        try:
+            conn.send(reply)
+        except OSError:  # the parent is gone
+            return
     conn.close()
 
 
@@ -268,7 +297,8 @@ def _stream(func, it, held, workers, ahead):
     try:
         for _ in range(workers):
             mine, theirs = ctx.Pipe(duplex=True)
-            proc = ctx.Process(target=_stream_worker, args=(theirs,), daemon=True)
+            proc = ctx.Process(target=_stream_worker, args=(theirs, os.getpid(), [*conns, mine]),
+                               daemon=True)
             proc.start()
             theirs.close()
             procs.append(proc)
@@ -289,7 +319,10 @@ def _stream(func, it, held, workers, ahead):
             while idle and sent < len(held):
                 index, item = held[sent]
                 w = idle.pop()
-                conns[w].send((index, item))
+                try:
+                    conns[w].send((index, item))
+                except OSError:  # the worker died
+                    raise _Stalled from None
                 running[conns[w]] = index
                 sent += 1
             while held and held[0][0] in results:
@@ -312,7 +345,7 @@ def _stream(func, it, held, workers, ahead):
             for conn in multiprocessing.connection.wait(list(running), timeout=0.2):
                 try:
                     index, status, value = conn.recv()
-                except EOFError:  # the worker died
+                except (EOFError, OSError):  # the worker died
                     raise _Stalled from None
                 results[index] = (status, value)
                 del running[conn]

@@ -107,3 +107,40 @@ def test_a_bad_row_in_a_later_piece_leaves_no_file(tmp_path, monkeypatch, worker
     with pytest.raises((InputFileError, ProfileError), match=r"lots\.csv: row 34"):
         predict_to_file([lots], out, chunk_rows=5, min_bytes=0)
     assert sorted(p.name for p in tmp_path.iterdir()) == ["lots.csv"]
+
+
+@pytest.mark.parametrize("how", ["SIGTERM", "SIGINT"])
+def test_a_stopped_predict_leaves_no_worker_and_no_file(tmp_path, how):
+    # workers must not outlive the command: they hold its stderr open, so a caller
+    # waiting for the command's output would wait for ever
+    import os
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    lots = tmp_path / "lots.csv"
+    _random_lots(lots, 60_000, 21)
+    out_dir = tmp_path / "out"
+    env = {**os.environ, "FAME_ESTIMATOR_WORKERS": "2"}
+    proc = subprocess.Popen([sys.executable, "-m", "estimator", "predict", str(lots), "-o",
+                             str(out_dir / "estimates.csv")], env=env,
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    deadline = time.monotonic() + 60
+    # the first piece is written once the workers are running
+    while time.monotonic() < deadline and proc.poll() is None:
+        temps = list(out_dir.glob(".estimates.csv.*.tmp")) if out_dir.exists() else []
+        if temps and temps[0].stat().st_size > 0:
+            break
+        time.sleep(0.02)
+    else:
+        pytest.fail("the command ended before the workers were running; give it more rows")
+    proc.send_signal(getattr(signal, how))
+    try:
+        _, err = proc.communicate(timeout=30)  # times out if a worker keeps stderr open
+    finally:
+        proc.kill()
+    assert proc.returncode != 0
+    assert b"Traceback" not in err
+    time.sleep(0.5)
+    assert list(out_dir.iterdir()) == []
