@@ -223,26 +223,30 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
         if rule is not None:
             by_rule.setdefault(rule[0], []).append((k, rule[1]))
     # per rule: the keys, g of their pure-ester values (n_species, m), the weighted means
-    # of g (n, m) and the base values (n, m)
+    # of g (m, n) and the base values (m, n); one row per method, so that every NumPy
+    # loop below runs along the samples (rows of m = 1 to 6 values would cost a call
+    # of the inner loop per sample)
     stacks = []
     for name, items in by_rule.items():
         keys = [k for k, _ in items]
         gp = np.column_stack([g for _, g in items])
-        stacks.append((keys, _MIXING_RULES[name][1], gp / 100.0, w @ gp / 100.0,
-                       np.column_stack([base[k] for k in keys]),
-                       np.zeros((w.shape[0], len(keys)))))
+        stacks.append((keys, _MIXING_RULES[name][1], gp / 100.0,
+                       np.ascontiguousarray((w @ gp / 100.0).T),
+                       np.vstack([base[k] for k in keys]),
+                       np.zeros((len(keys), w.shape[0]))))
     ruled = {k for keys, *_ in stacks for k in keys}
     var = {k: np.zeros_like(v) for k, v in base.items() if k not in ruled}
     rest = [k for k in base if k not in ruled]
     species_step = getattr(evaluate, "species_step", None)
     total = w.sum(axis=1)
     buffer = []  # one stepped composition at a time: the memory is reused
+    sd_by_species = np.ascontiguousarray(sd.T)  # each species' steps side by side in memory
     for j in np.flatnonzero((sd > 0).any(axis=0)):
-        h = sd[:, j]
-        shrink = (100.0 / (100.0 + h))[:, None]
+        h = sd_by_species[j]
+        shrink = (100.0 / (100.0 + h))[None, :]
         for _, ginv, gp100, mean, values, acc in stacks:
             with np.errstate(all="ignore"):
-                x = h[:, None] * gp100[j]
+                x = gp100[j][:, None] * h[None, :]
                 x += mean
                 x *= shrink
                 d = ginv(x)
@@ -279,7 +283,7 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
             var[k][rows] += np.where(np.isfinite(d), d * d, 0.0)
     for keys, *_, acc in stacks:
         for i, k in enumerate(keys):
-            var[k] = acc[:, i]
+            var[k] = acc[i]
     return {k: np.where(np.isfinite(v), np.sqrt(var[k]), np.nan) for k, v in base.items()}
 
 
