@@ -604,25 +604,9 @@ class TableWriter:
             raise _renamed(exc, self.path) from None
 
     def _write(self, frame: pd.DataFrame) -> None:
-        first = self._columns is None
-        if first:
-            self._columns = list(frame.columns)
-        elif list(frame.columns) != self._columns:
+        if self._columns is not None and list(frame.columns) != self._columns:
             frame = frame.reindex(columns=self._columns)
-        if self.suffix in (".csv", ".tsv"):
-            self._fh.write(csv_text(frame, sep="," if self.suffix == ".csv" else "\t",
-                                    header=first))
-        elif self.suffix == ".json":
-            records = _json_records(frame)
-            if first:
-                self._fh.write(b"[")
-            if records:
-                self._fh.write(((",\n" if self.rows else "\n") + records).encode("utf-8"))
-        else:
-            if first:
-                self._workbook.start_sheet(_sheet_title(self.sheet_name, set()), self._columns)
-            self._workbook.write(frame)
-        self.rows += len(frame)
+        self._append(*self.encode(frame))
 
     def encode(self, frame: pd.DataFrame) -> tuple[list, int, object]:
         """``(columns, rows, data)`` that :meth:`write_encoded` appends as :meth:`write` would.
@@ -642,30 +626,33 @@ class TableWriter:
     def write_encoded(self, encoded: tuple[list, int, object]) -> bool:
         """Append rows from :meth:`encode`; False (nothing written) when their columns
         are not the file's (then :meth:`write` the frame: it puts the columns in order)."""
-        columns, rows, data = encoded
-        if self._columns is not None and columns != self._columns:
+        if self._columns is not None and encoded[0] != self._columns:
             return False
         try:
-            if self.suffix == ".xlsx":
-                self._write(data)
-                return True
-            first = self._columns is None
-            if first:
-                self._columns = columns
-            if self.suffix in (".csv", ".tsv"):
-                if first:
-                    self._fh.write(_header(columns, "," if self.suffix == ".csv" else "\t")
-                                   .encode("utf-8"))
-                self._fh.write(data)
-            else:
-                if first:
-                    self._fh.write(b"[")
-                if data:
-                    self._fh.write((b",\n" if self.rows else b"\n") + data)
-            self.rows += rows
+            self._append(*encoded)
         except OSError as exc:
             raise _renamed(exc, self.path) from None
         return True
+
+    def _append(self, columns: list, rows: int, data) -> None:
+        first = self._columns is None
+        if first:
+            self._columns = columns
+        if self.suffix in (".csv", ".tsv"):
+            if first:
+                sep = "," if self.suffix == ".csv" else "\t"
+                self._fh.write(_header(columns, sep).encode("utf-8"))
+            self._fh.write(data)
+        elif self.suffix == ".json":
+            if first:
+                self._fh.write(b"[")
+            if data:
+                self._fh.write((b",\n" if self.rows else b"\n") + data)
+        else:
+            if first:
+                self._workbook.start_sheet(_sheet_title(self.sheet_name, set()), columns)
+            self._workbook.write(data)
+        self.rows += rows
 
     def _finish(self) -> None:
         if self._columns is None:  # nothing written: an empty table

@@ -3,7 +3,7 @@
 
 The refits of two properties share nothing, and a refit is almost all small,
 single-threaded scikit-learn fits (BLAS is held to one thread, see
-:func:`estimator.refit.candidates.single_threaded_blas`); the figures of a report
+:func:`single_threaded_blas`); the figures of a report
 are drawn one by one by Agg. On a machine with two or more cores such jobs run side
 by side. Workers are *forked*: they inherit the already imported libraries and the
 job's inputs, so nothing is imported or pickled twice; only the results travel back.
@@ -31,7 +31,8 @@ from collections import deque
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from typing import Any
 
-__all__ = ["ENV_WORKERS", "STALL_SECONDS", "map_in_order", "run_jobs", "worker_count"]
+__all__ = ["ENV_WORKERS", "STALL_SECONDS", "map_in_order", "run_jobs", "single_threaded_blas",
+           "worker_count"]
 
 #: Environment variable that caps the number of worker processes (``1``: no workers).
 ENV_WORKERS = "FAME_ESTIMATOR_WORKERS"
@@ -92,6 +93,23 @@ def _child_setup(parent_pid: int, inherited: Sequence[Any]) -> None:  # pragma: 
         os._exit(0)
 
 
+def _answer(conn, index: int, job: Callable[[], Any]) -> bool:  # pragma: no cover
+    """Run ``job`` and send ``(index, status, value)``; False when the parent is gone.
+
+    An error of the job is sent as its type and arguments, to be raised again in the
+    parent (:func:`_rebuilt`).
+    """
+    try:
+        message = (index, "ok", job())
+    except Exception as exc:
+        message = (index, "error", (type(exc), exc.args))
+    try:
+        conn.send(message)
+    except OSError:
+        return False
+    return True
+
+
 def _tick(n: int) -> None:
     with _COUNTER.get_lock():
         _COUNTER.value += n
@@ -103,13 +121,7 @@ def _worker(indices: list[int], conn, parent_pid: int,
     _child_setup(parent_pid, inherited)
     func, items = _JOBS
     for index in indices:
-        try:
-            message = (index, "ok", func(items[index], _tick))
-        except Exception as exc:  # sent back and raised again in the parent
-            message = (index, "error", (type(exc), exc.args))
-        try:
-            conn.send(message)
-        except OSError:  # the parent is gone
+        if not _answer(conn, index, lambda index=index: func(items[index], _tick)):
             return
     conn.close()
 
@@ -183,12 +195,7 @@ def _forked(func, items, workers, progress) -> list[Any]:
     for index in range(len(items)):
         status, value = results[index]
         if status == "error":
-            kind, args = value
-            try:
-                error = kind(*args)
-            except Exception:  # an error type built from other arguments
-                error = RuntimeError(*args)
-            raise error
+            raise _rebuilt(value)
     return [results[index][1] for index in range(len(items))]
 
 
@@ -201,15 +208,22 @@ def _rebuilt(value) -> Exception:
         return RuntimeError(*args)
 
 
-def _one_blas_thread() -> None:  # pragma: no cover - runs in a child
-    """Hold BLAS to one thread in this worker: the workers already fill the cores, and
-    a BLAS thread per core in each worker only adds waiting (threadpoolctl comes with
-    scikit-learn; without it, nothing changes)."""
+def single_threaded_blas():
+    """A context in which BLAS runs on one thread (entered for good in a worker).
+
+    Small matrices (a refit's tens of samples) spend more on waking and syncing BLAS
+    threads than on the arithmetic, especially on a busy machine (measured by
+    ``scripts/bench_fit.py``); and workers already fill the cores, so a BLAS thread
+    per core in each of them only adds waiting. threadpoolctl comes with
+    scikit-learn; without it this is a no-op.
+    """
+    import contextlib
+
     try:
         from threadpoolctl import threadpool_limits
-    except ImportError:
-        return
-    threadpool_limits(1)
+    except ImportError:  # pragma: no cover
+        return contextlib.nullcontext()
+    return threadpool_limits(limits=1, user_api="blas")
 
 
 def _stream_worker(conn, parent_pid: int, inherited: list) -> None:  # pragma: no cover
@@ -219,7 +233,7 @@ def _stream_worker(conn, parent_pid: int, inherited: list) -> None:  # pragma: n
     # files, which a worker must never do); it kills the workers when it stops
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
-    _one_blas_thread()
+    single_threaded_blas()  # held for the worker's life
     func = _STREAM_FUNC
     while True:
         try:
@@ -229,13 +243,7 @@ def _stream_worker(conn, parent_pid: int, inherited: list) -> None:  # pragma: n
         if message is None:
             break
         index, item = message
-        try:
-            reply = (index, "ok", func(item))
-        except Exception as exc:  # sent back and raised again in the parent
-            reply = (index, "error", (type(exc), exc.args))
-        try:
-            conn.send(reply)
-        except OSError:  # the parent is gone
+        if not _answer(conn, index, lambda item=item: func(item)):
             return
     conn.close()
 

@@ -51,6 +51,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from estimator.parallel import single_threaded_blas
 from estimator.refit.features import FEATURE_SETS, estimate_feature
 
 __all__ = [
@@ -314,23 +315,6 @@ def sklearn_estimator(kind: str, *, seed: int = 0, n_samples: int = 0, n_feature
             regressor=make_pipeline(StandardScaler(), gpr), transformer=StandardScaler()
         )
     raise ValueError(f"no scikit-learn estimator for kind {kind!r}")
-
-
-def single_threaded_blas():
-    """A context in which BLAS runs on one thread.
-
-    The matrices of a refit are tiny (tens of samples); a multi-threaded BLAS spends far
-    more on waking and syncing its threads than on the arithmetic, especially when the
-    machine is busy (measured by ``scripts/bench_fit.py``). threadpoolctl comes with
-    scikit-learn; without it this is a no-op.
-    """
-    import contextlib
-
-    try:
-        from threadpoolctl import threadpool_limits
-    except ImportError:  # pragma: no cover
-        return contextlib.nullcontext()
-    return threadpool_limits(limits=1, user_api="blas")
 
 
 # --------------------------------------------------------------- predicting

@@ -241,6 +241,7 @@ RULE_WORDS = {
     "cloud-gap": "blend cloud point less the volume-weighted cloud point-CFPP gap (ours)",
 }
 
+
 def spec_name(key: str) -> str:
     """A specification key as printed (``en14214`` -> *EN 14214*)."""
     return _SPECS.get(str(key), str(key))

@@ -54,9 +54,8 @@ def test_adriaanse1965_per_mass_table(key, published):
     assert value == pytest.approx(published, abs=0.005)
 
 
-@pytest.mark.reference
-@pytest.mark.parametrize("key", ["C8:0", "C10:0", "C12:0", "C14:0", "C18:1", "C18:2", "C18:3"])
-def test_pure_ester_heating_values_against_chemicals(key):
+def _chemicals_heating_values_MJ_kg(key: str) -> tuple[float, float]:
+    """HHV and LHV of a pure ester from ``chemicals`` (its liquid heat of formation)."""
     pytest.importorskip("chemicals")
     from chemicals.combustion import combustion_data
     from chemicals.reaction import Hfl
@@ -65,9 +64,13 @@ def test_pure_ester_heating_values_against_chemicals(key):
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")  # pandas-3 noise from chemicals' loader
         cd = combustion_data(row["fame_formula"], Hf=Hfl(row["cas"]))
-    mw_ref = cd.MW
-    hhv_ref = -cd.HHV / mw_ref / 1e3
-    lhv_ref = -cd.LHV / mw_ref / 1e3
+    return -cd.HHV / cd.MW / 1e3, -cd.LHV / cd.MW / 1e3
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("key", ["C8:0", "C10:0", "C12:0", "C14:0", "C18:1", "C18:2", "C18:3"])
+def test_pure_ester_heating_values_against_chemicals(key):
+    hhv_ref, lhv_ref = _chemicals_heating_values_MJ_kg(key)
     hhv, _ = energy.pure_ester_hhv()
     ours = hhv[KEYS.index(key)]
     # reference_libs.md Table 6: thermo/chemicals equals Adriaanse 1965 within 0.05 % for
@@ -82,20 +85,13 @@ def test_pure_ester_heating_values_against_chemicals(key):
 @pytest.mark.reference
 @pytest.mark.parametrize("key", ["C8:0", "C10:0", "C12:0", "C14:0", "C18:1", "C18:2", "C18:3"])
 def test_per_ester_fallback_hhv_against_chemicals(key):
-    pytest.importorskip("chemicals")
-    from chemicals.combustion import combustion_data
-    from chemicals.reaction import Hfl
-
     # the Ramirez-Verduzco 2012 per-ester form, which kay1936 uses for esters without a
     # tabulated value, on esters whose measured heat of combustion is in chemicals 1.5.2
     # (CRC/WebBook dHf(l), reference_libs.md Table 6 "good"); the form was fitted on such
     # data and its mixtures' AAD is 0.21 % (VERIFIED [S11]): 0.5 % (twice that plus the
     # reference's 0.05 %) is its tolerance here
+    hhv_ref, _ = _chemicals_heating_values_MJ_kg(key)
     row = species_table().loc[key]
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # pandas-3 noise from chemicals' loader
-        cd = combustion_data(row["fame_formula"], Hf=Hfl(row["cas"]))
-    hhv_ref = -cd.HHV / cd.MW / 1e3
     ours = energy.ramirezverduzco2012_ester(row["fame_molar_mass_g_mol"], row["double_bonds"])
     assert ours == pytest.approx(hhv_ref, rel=5e-3)
 
