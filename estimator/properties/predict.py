@@ -365,7 +365,8 @@ def _blocks(w, ids, methods, temperatures_C, desc=None, gc=DEFAULT_GC):
             # methods that see the composition only through the ideal-solubility cloud
             # point move with it: one cloud point per species step, for all of them
             via_cloud = [k for k in names if (keyed[k][0], k[1]) in CLOUD_POINT_METHODS]
-            out = evaluate_all(stepped(), [k for k in names if k not in via_cloud])
+            others = [k for k in names if k not in via_cloud]
+            out = evaluate_all(stepped(), others) if others else {}
             if via_cloud:
                 if not cloud_steps:
                     cloud_steps.append(Imahara2006Steps(w))

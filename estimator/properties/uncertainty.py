@@ -190,14 +190,26 @@ _MIXING_RULES = {
 
 
 def _mixing_rule(fp: np.ndarray, w: np.ndarray, v: np.ndarray):
-    """(name, g(fp)) of the rule the values follow on these rows, or None."""
-    if not (np.isfinite(fp).all() and np.isfinite(v).all()):
-        return None
+    """(name, g(fp)) of the rule the values follow on these rows, or None.
+
+    A pure-ester value that is NaN is taken, for the reciprocal rule alone, as a pole
+    (1/f = 0: an induction period inverse to an oxidizability that is zero for a
+    saturated ester); like every rule, that reading is kept only if it reproduces
+    the values on these rows. Rows whose value is NaN are not checked: their band is
+    NaN whichever way it is computed.
+    """
+    known = np.isfinite(v)
+    if not known.all():
+        w, v = w[known], v[known]
+    finite = np.isfinite(fp)
     scale = max(float(np.max(np.abs(v), initial=0.0)), 1.0)
     for name, (g, ginv) in _MIXING_RULES.items():
-        if name != "linear" and not (fp > 0).all():
+        if name == "reciprocal" and finite.any() and (fp[finite] > 0).all():
+            gp = np.divide(1.0, fp, out=np.zeros_like(fp), where=finite)
+        elif not finite.all() or (name != "linear" and not (fp > 0).all()):
             continue
-        gp = g(fp)
+        else:
+            gp = g(fp)
         with np.errstate(all="ignore"):
             pred = ginv(w @ gp / 100.0)
             off = np.abs(pred - v)
@@ -225,15 +237,20 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
     # per rule: the keys, g of their pure-ester values (n_species, m), the weighted means
     # of g (m, n) and the base values (m, n); one row per method, so that every NumPy
     # loop below runs along the samples (rows of m = 1 to 6 values would cost a call
-    # of the inner loop per sample)
+    # of the inner loop per sample). Rows whose base value is NaN get a harmless stand-in
+    # (their band is NaN in the end), so every step below is finite.
     stacks = []
     for name, items in by_rule.items():
         keys = [k for k, _ in items]
         gp = np.column_stack([g for _, g in items])
-        stacks.append((keys, _MIXING_RULES[name][1], gp / 100.0,
-                       np.ascontiguousarray((w @ gp / 100.0).T),
-                       np.vstack([base[k] for k in keys]),
-                       np.zeros((len(keys), w.shape[0]))))
+        values = np.vstack([base[k] for k in keys])
+        mean = np.ascontiguousarray((w @ gp / 100.0).T)
+        unknown = ~np.isfinite(values)
+        if unknown.any():
+            stand_in = 1.0  # any mean of g with a finite, positive g^-1
+            mean[unknown] = stand_in
+            values[unknown] = _MIXING_RULES[name][1](stand_in)
+        stacks.append((keys, name, gp, mean, values, np.zeros((len(keys), w.shape[0]))))
     ruled = {k for keys, *_ in stacks for k in keys}
     var = {k: np.zeros_like(v) for k, v in base.items() if k not in ruled}
     rest = [k for k in base if k not in ruled]
@@ -243,19 +260,22 @@ def _linearised(evaluate, w, sd, base) -> dict[str, np.ndarray]:
     sd_by_species = np.ascontiguousarray(sd.T)  # each species' steps side by side in memory
     for j in np.flatnonzero((sd > 0).any(axis=0)):
         h = sd_by_species[j]
-        shrink = (100.0 / (100.0 + h))[None, :]
-        for _, ginv, gp100, mean, values, acc in stacks:
-            with np.errstate(all="ignore"):
-                x = gp100[j][:, None] * h[None, :]
-                x += mean
-                x *= shrink
-                d = ginv(x)
+        # h more of species j, renormalised, moves each weighted mean of g to
+        # mean + H (g_j - mean), with H = h / (100 + h)
+        share = h / (100.0 + h)
+        for _, name, gp, mean, values, acc in stacks:
+            d = gp[j][:, None] - values if name == "linear" else gp[j][:, None] - mean
+            d *= share
+            if name == "logarithmic":
+                d += mean
+                np.exp(d, out=d)
+            elif name == "reciprocal":
+                d += mean
+                np.reciprocal(d, out=d)
+            if name != "linear":
                 d -= values
-                d *= d
-            if np.isfinite(d).all():
-                acc += d
-            else:
-                acc += np.where(np.isfinite(d), d, 0.0)
+            d *= d
+            acc += d
         if not rest:
             continue
         rows = np.flatnonzero(h > 0)  # elsewhere the step is zero

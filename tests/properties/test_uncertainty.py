@@ -263,3 +263,30 @@ def test_fast_composition_uncertainty_equals_the_per_species_finite_difference(s
     slow = estimate(w, ids, methods="all", temperatures_C=[-10, 20])
     pd.testing.assert_frame_equal(fast.drop(columns="error"), slow.drop(columns="error"))
     np.testing.assert_allclose(fast["error"], slow["error"], rtol=1e-9, atol=1e-12)
+
+
+@pytest.mark.parametrize("saturated_only_row", [False, True])
+def test_induction_period_band_through_its_pole_equals_the_finite_difference(
+        saturated_only_row, monkeypatch):
+    # regression test: Park's induction period is inverse to the oxidizability, so a
+    # saturated ester (oxidizability 0, induction period NaN at the pole) moves it exactly
+    # as 1/OS = 0 in the reciprocal mixing rule; a fully saturated row (OS NaN) keeps a
+    # NaN band and does not stop the rule on the other rows
+    from estimator.properties import predict as predict_module
+
+    rng = np.random.default_rng(7)
+    w = np.zeros((300, len(KEYS)))
+    cols = [KEYS.index(k) for k in ("C16:0", "C18:0", "C18:1", "C18:2", "C18:3", "C20:0")]
+    w[:, cols] = rng.dirichlet(np.ones(len(cols)), size=len(w)) * 100
+    if saturated_only_row:
+        w[0] = comp({"C16:0": 60.0, "C18:0": 40.0})[0]
+    pure = _defaults(100.0 * np.eye(len(KEYS)), ["oxidation_stability_110C_h"])
+    base = _defaults(w, ["oxidation_stability_110C_h"])["oxidation_stability_110C_h"]
+    rule = uncertainty._mixing_rule(pure["oxidation_stability_110C_h"], w, base)
+    assert rule[0] == "reciprocal"
+    ids = [f"r{i}" for i in range(len(w))]
+    fast = estimate_wide(w, ids)["oxidation_stability_110C_h_error"].to_numpy()
+    monkeypatch.setattr(predict_module, "composition_sd", _per_species_sd)
+    slow = estimate_wide(w, ids)["oxidation_stability_110C_h_error"].to_numpy()
+    np.testing.assert_allclose(fast, slow, rtol=1e-9, atol=1e-12)
+    assert np.isnan(fast[0]) == saturated_only_row
