@@ -629,12 +629,17 @@ class Imahara2006Steps:
         self._w_sat = w[:, idx]
         self._a = 1.0 / (tm + ZERO_CELSIUS_K)
         self._b = GAS_CONSTANT_J_MOL_K / (dh * 1000.0)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            ln_x = np.log(x, out=np.full(x.shape, -np.inf), where=x > 0)
-            # one row per ester (the minimum over esters is then over the first axis)
-            self._inv_t = np.ascontiguousarray((self._a - self._b * ln_x).T)  # inf: absent
+        # one row per ester (the minimum over esters is then over the first axis)
+        inv_t = np.ascontiguousarray(x.T)
+        with np.errstate(divide="ignore"):
+            np.log(inv_t, out=inv_t)  # x >= 0: -inf where absent
+        inv_t *= -self._b[:, None]
+        inv_t += self._a[:, None]
+        self._inv_t = inv_t  # inf: absent
         self._present = (x > 0).any(axis=1)
         self._column = {int(k): c for c, k in enumerate(idx)}
+        # esters absent from every profile stay at 1/T = inf unless stepped themselves
+        self._live = np.flatnonzero((x > 0).any(axis=0))
 
     def step(self, species: int, h: np.ndarray) -> np.ndarray:
         """Cloud point [degC] with ``h`` (per profile) [wt %] more of column ``species``."""
@@ -645,13 +650,15 @@ class Imahara2006Steps:
             c = self._column.get(int(species))
             present = self._present
             lowest = np.full(len(total), np.inf)
-            for i, (inv_t, b) in enumerate(zip(self._inv_t, self._b, strict=True)):
+            esters = self._live if c is None or c in self._live else [*self._live, c]
+            for i in esters:
+                b = self._b[i]
                 if i == c:
                     xj = (self._w_sat[:, c] + h) * self._inv_m[species] / total
                     moved = np.where(xj > 0, self._a[c] - b * np.log(xj), np.inf)
                     present = present | (xj > 0)
                 else:
-                    moved = inv_t - b * shift
+                    moved = self._inv_t[i] - b * shift
                 np.minimum(lowest, moved, out=lowest)
             cloud = 1.0 / lowest - ZERO_CELSIUS_K
         return np.where(present, cloud, np.nan)
