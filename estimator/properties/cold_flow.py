@@ -630,9 +630,9 @@ class Imahara2006Steps:
         self._a = 1.0 / (tm + ZERO_CELSIUS_K)
         self._b = GAS_CONSTANT_J_MOL_K / (dh * 1000.0)
         # one row per ester (the minimum over esters is then over the first axis)
-        inv_t = np.ascontiguousarray(x.T)
+        inv_t = np.empty((x.shape[1], x.shape[0]))
         with np.errstate(divide="ignore"):
-            np.log(inv_t, out=inv_t)  # x >= 0: -inf where absent
+            np.log(x.T, out=inv_t)  # x >= 0: -inf where absent
         inv_t *= -self._b[:, None]
         inv_t += self._a[:, None]
         self._inv_t = inv_t  # inf: absent
