@@ -11,7 +11,9 @@ as separate processes, each timed from start to exit with its peak memory (max R
 It prints the ratio of each command to the baseline (goals: CSV <= 3x at 200k and 1M
 rows with peak memory <= 1.5x; XLSX <= 5x at 10k rows) and the machine it ran on.
 Times are the best of ``--repeat`` runs. ``--breakdown`` also times the parts in one
-process (start-up, read, estimate, write) to show where the time goes.
+process (start-up, read, estimate, write) to show where the time goes;
+``--pandas-writer`` times a process that reads predict's output and writes it again with
+``pandas.DataFrame.to_csv``, to show what writing that much text costs with pandas.
 
 Usage: ``python scripts/bench_predict.py [--sizes 10000,200000,1000000] [--repeat 3]``
 """
@@ -151,6 +153,10 @@ def main() -> None:
     parser.add_argument("--repeat", type=int, default=3, help="runs per command (best taken)")
     parser.add_argument("--breakdown", action="store_true",
                         help="also time read, estimate and write in one process")
+    parser.add_argument("--pandas-writer", action="store_true",
+                        help="also time a process that reads predict's output table and "
+                             "writes it again with pandas.DataFrame.to_csv (the cost of "
+                             "writing that much text with pandas alone)")
     args = parser.parse_args()
     sizes = [int(s) for s in args.sizes.split(",") if s.strip()]
     py = sys.executable
@@ -175,6 +181,14 @@ def main() -> None:
                       f"{base_m:>11.0f} / {m:>11.0f}  {m / base_m:>5.2f}x", flush=True)
                 if args.breakdown:
                     print(breakdown(path, out), flush=True)
+                if args.pandas_writer:
+                    again = Path(tmp) / "again.csv"
+                    w_t, _ = best([py, "-c", f"import pandas; pandas.read_csv({str(out)!r})"
+                                   f".to_csv({str(again)!r}, index=False)"], 1)
+                    size = out.stat().st_size / path.stat().st_size
+                    print(f"  predict's output is {size:.1f}x the input's size; reading it and "
+                          f"writing it again with pandas to_csv takes {w_t:.2f} s "
+                          f"(predict: {t / w_t:.2f}x that)", flush=True)
             if n == args.xlsx_size:
                 out = Path(tmp) / "out.xlsx"
                 t, m = best([py, "-m", "estimator", "predict", str(path), "-o", str(out)],
