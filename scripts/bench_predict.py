@@ -10,8 +10,9 @@ as separate processes, each timed from start to exit with its peak memory (max R
 
 It prints the ratio of each command to the baseline (goals: CSV <= 3x at 200k and 1M
 rows with peak memory <= 1.5x; XLSX <= 5x at 10k rows) and the machine it ran on.
-Times are the best of ``--repeat`` runs. ``--breakdown`` also times the parts in one
-process (start-up, read, estimate, write) to show where the time goes;
+Times are the best of ``--repeat`` runs, the baseline and the command run by turns.
+``--breakdown`` also times the parts in one process (start-up, read, estimate, write)
+to show where the time goes;
 ``--pandas-writer`` times a process that reads predict's output and writes it again with
 ``pandas.DataFrame.to_csv``, to show what writing that much text costs with pandas.
 
@@ -86,6 +87,16 @@ def run(cmd: list[str]) -> tuple[float, float]:
 def best(cmd: list[str], repeat: int) -> tuple[float, float]:
     """Best time and the peak memory of that run, over ``repeat`` runs."""
     return min(run(cmd) for _ in range(repeat))
+
+
+def best_by_turns(cmds: list[list[str]], repeat: int) -> list[tuple[float, float]]:
+    """:func:`best` of each command, the commands run by turns.
+
+    On a shared machine whose speed drifts, a slow spell then falls on every command
+    rather than on the baseline's runs or the command's alone.
+    """
+    runs = [[run(cmd) for cmd in cmds] for _ in range(repeat)]
+    return [min(r[i] for r in runs) for i in range(len(cmds))]
 
 
 def machine() -> str:
@@ -171,12 +182,12 @@ def main() -> None:
                             f"from bench_predict import write_profiles; "
                             f"from pathlib import Path; write_profiles(Path({str(path)!r}), {n})"],
                            check=True)
-            base_t, base_m = best([py, "-c", f"import pandas; pandas.read_csv({str(path)!r})"],
-                                  args.repeat)
+            base = [py, "-c", f"import pandas; pandas.read_csv({str(path)!r})"]
             if n in sizes:
                 out = Path(tmp) / "out.csv"
-                t, m = best([py, "-m", "estimator", "predict", str(path), "-o", str(out)],
-                            args.repeat)
+                (base_t, base_m), (t, m) = best_by_turns(
+                    [base, [py, "-m", "estimator", "predict", str(path), "-o", str(out)]],
+                    args.repeat)
                 print(f"{n:>9,}  {base_t:>8.2f}s  {t:>14.2f}s  {t / base_t:>5.1f}x  "
                       f"{base_m:>11.0f} / {m:>11.0f}  {m / base_m:>5.2f}x", flush=True)
                 if args.breakdown:
@@ -191,8 +202,9 @@ def main() -> None:
                           f"(predict: {t / w_t:.2f}x that)", flush=True)
             if n == args.xlsx_size:
                 out = Path(tmp) / "out.xlsx"
-                t, m = best([py, "-m", "estimator", "predict", str(path), "-o", str(out)],
-                            args.repeat)
+                (base_t, base_m), (t, m) = best_by_turns(
+                    [base, [py, "-m", "estimator", "predict", str(path), "-o", str(out)]],
+                    args.repeat)
                 print(f"{n:>9,}  {base_t:>8.2f}s  {t:>11.2f}s xlsx  {t / base_t:>5.1f}x  "
                       f"{base_m:>11.0f} / {m:>11.0f}  {m / base_m:>5.2f}x  (goal <= 5x)",
                       flush=True)
