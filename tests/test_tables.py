@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from estimator.tables import load_table
+from estimator.tables import composition_row, load_table, species_keys
 
 SCRIPT = Path(__file__).resolve().parents[1] / "scripts" / "validate_tables.py"
 
@@ -390,3 +390,12 @@ def test_diesels_csv_seasonal_cold_flow_matches_the_uk_supplier_spec():
     # (standards.md 3.4, VERIFIED [S21])
     assert diesel_values("cfpp_C") == {"en590-summer": -5.0, "en590-winter": -15.0}
     assert diesel_values("cloud_point_C") == {"en590-summer": 3.0, "en590-winter": -5.0}
+
+
+def test_composition_row_renormalises_to_100_and_refuses_an_empty_mass():
+    w = composition_row({"C16:0": 2.0, "C18:1": 6.0})
+    assert w.shape == (1, len(species_keys()))
+    assert w.sum() == pytest.approx(100.0)
+    assert w[0, species_keys().index("C16:0")] == pytest.approx(25.0)
+    with pytest.raises(ValueError, match="positive total"):
+        composition_row({"C16:0": 0.0})

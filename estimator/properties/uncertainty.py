@@ -61,7 +61,7 @@ import numpy as np
 import pandas as pd
 
 from estimator.properties.methods import DEFAULTS, Method, get_method, methods_for
-from estimator.tables import load_table, species_keys
+from estimator.tables import composition_row, load_table, species_keys
 
 __all__ = [
     "AAD_TO_SD",
@@ -423,10 +423,11 @@ def parse_composition(text: str) -> np.ndarray:
 
         return np.asarray(Profile.from_oils([rest]).wt_pct, dtype=float)[0]
     if kind == "mix":
-        for part in rest.split(";"):
-            key, _, value = part.partition("=")
-            w[keys.index(key.strip())] += float(value)
-        return w * 100.0 / w.sum()
+        parts = [part.partition("=") for part in rest.split(";")]
+        mass: dict[str, float] = {}
+        for key, _, value in parts:
+            mass[key.strip()] = mass.get(key.strip(), 0.0) + float(value)
+        return composition_row(mass)[0]
     raise ValueError(f"composition {text!r}: expected ester:, oil: or mix:")
 
 

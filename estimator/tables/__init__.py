@@ -6,13 +6,14 @@ Each CSV has one canonical unit per column (stated in the header) and a
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from functools import cache
 from importlib.resources import files
 
 import numpy as np
 import pandas as pd
 
-__all__ = ["load_table", "species_column", "species_keys", "species_table"]
+__all__ = ["composition_row", "load_table", "species_column", "species_keys", "species_table"]
 
 
 @cache
@@ -38,6 +39,35 @@ def species_table() -> pd.DataFrame:
 def species_keys() -> tuple[str, ...]:
     """Species keys in canonical order (carbon number, then double bonds)."""
     return tuple(species_table().index)
+
+
+def composition_row(mass: Mapping[str, float]) -> np.ndarray:
+    """One composition from species key -> mass, renormalised to 100 wt %.
+
+    Parameters
+    ----------
+    mass : mapping of str to float
+        Species keys of :func:`species_keys` and their masses (any positive scale).
+
+    Returns
+    -------
+    ndarray, shape (1, n_species)
+        FAME mass % in species order. [wt %]
+
+    Examples
+    --------
+    >>> w = composition_row({"C16:0": 1.0, "C18:1": 3.0})
+    >>> float(w[0, species_keys().index("C18:1")])
+    75.0
+    """
+    keys = species_keys()
+    w = np.zeros((1, len(keys)))
+    for key, value in mass.items():
+        w[0, keys.index(key)] += float(value)
+    total = w.sum()
+    if not total > 0:
+        raise ValueError("a composition needs a positive total mass")
+    return w * (100.0 / total)
 
 
 def species_column(column: str) -> np.ndarray:

@@ -12,16 +12,12 @@ from hypothesis import strategies as st
 from estimator.properties import cold_flow
 from estimator.properties.descriptors import descriptors
 from estimator.properties.methods import methods_for
-from estimator.tables import species_column, species_keys, species_table
+from estimator.tables import composition_row, species_column, species_keys, species_table
 
 KEYS = species_keys()
 
 
-def comp(mapping: dict[str, float]) -> np.ndarray:
-    w = np.zeros((1, len(KEYS)))
-    for k, v in mapping.items():
-        w[0, KEYS.index(k)] = v
-    return 100.0 * w / w.sum()
+comp = composition_row  # species key -> mass, renormalised to 100 wt %
 
 
 @pytest.mark.parametrize("key", ["C12:0", "C14:0", "C16:0", "C18:0", "C20:0", "C22:0", "C24:0"])

@@ -11,7 +11,7 @@ from estimator.properties import energy
 from estimator.properties.descriptors import descriptors
 from estimator.properties.methods import get_method
 from estimator.properties.predict import estimate, wide
-from estimator.tables import species_column, species_keys, species_table
+from estimator.tables import composition_row, species_column, species_keys, species_table
 
 KEYS = species_keys()
 
@@ -20,11 +20,7 @@ SOYBEAN = {"C16:0": 10.3, "C18:0": 3.9, "C18:1": 23.7, "C18:2": 54.3, "C18:3": 6
 RAPESEED = {"C16:0": 4.1, "C18:0": 1.8, "C18:1": 64.1, "C18:2": 19.0, "C18:3": 8.5}
 
 
-def comp(mapping: dict[str, float]) -> np.ndarray:
-    w = np.zeros((1, len(KEYS)))
-    for k, v in mapping.items():
-        w[0, KEYS.index(k)] = v
-    return 100.0 * w / w.sum()
+comp = composition_row  # species key -> mass, renormalised to 100 wt %
 
 
 SATURATED = [k for k in KEYS if species_table().loc[k, "double_bonds"] == 0

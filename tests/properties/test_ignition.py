@@ -12,16 +12,12 @@ from estimator.properties import ignition
 from estimator.properties.descriptors import descriptors
 from estimator.properties.methods import get_method
 from estimator.properties.predict import estimate
-from estimator.tables import species_column, species_keys, species_table
+from estimator.tables import composition_row, species_column, species_keys, species_table
 
 KEYS = species_keys()
 
 
-def comp(mapping: dict[str, float]) -> np.ndarray:
-    w = np.zeros((1, len(KEYS)))
-    for k, v in mapping.items():
-        w[0, KEYS.index(k)] = v
-    return 100.0 * w / w.sum()
+comp = composition_row  # species key -> mass, renormalised to 100 wt %
 
 
 @pytest.mark.parametrize(

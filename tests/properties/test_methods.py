@@ -20,17 +20,13 @@ from estimator.properties.methods import (
     list_methods,
     registry,
 )
-from estimator.tables import species_keys
+from estimator.tables import composition_row, species_keys
 
 KEYS = species_keys()
 ALL = [m for ms in registry().values() for m in ms.values()]
 
 
-def comp(mapping: dict[str, float]) -> np.ndarray:
-    w = np.zeros((1, len(KEYS)))
-    for k, v in mapping.items():
-        w[0, KEYS.index(k)] = v
-    return 100.0 * w / w.sum()
+comp = composition_row  # species key -> mass, renormalised to 100 wt %
 
 
 def test_unknown_method_error_lists_valid_names():

@@ -10,16 +10,12 @@ from hypothesis import strategies as st
 from estimator.properties import stability
 from estimator.properties.descriptors import descriptors
 from estimator.properties.methods import get_method, methods_for
-from estimator.tables import species_keys
+from estimator.tables import composition_row, species_keys
 
 KEYS = species_keys()
 
 
-def comp(mapping: dict[str, float]) -> np.ndarray:
-    w = np.zeros((1, len(KEYS)))
-    for k, v in mapping.items():
-        w[0, KEYS.index(k)] = v
-    return 100.0 * w / w.sum()
+comp = composition_row  # species key -> mass, renormalised to 100 wt %
 
 
 @pytest.mark.regression  # re-derives the code's own constants: a pin, not a validation

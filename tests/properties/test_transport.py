@@ -13,7 +13,7 @@ from estimator.properties import transport
 from estimator.properties.descriptors import descriptors
 from estimator.properties.methods import get_method, methods_for
 from estimator.properties.predict import estimate
-from estimator.tables import species_keys
+from estimator.tables import composition_row, species_keys
 
 KEYS = species_keys()
 
@@ -26,11 +26,7 @@ MELTING_C = {"C16:0": 29.6, "C18:0": 38.7, "C18:1": -19.7, "C18:2": -36.6, "C18:
 SOY_REF = {"C16:0": 11.0, "C18:0": 4.0, "C18:1": 24.0, "C18:2": 53.0, "C18:3": 8.0}
 
 
-def comp(mapping: dict[str, float]) -> np.ndarray:
-    w = np.zeros((1, len(KEYS)))
-    for k, v in mapping.items():
-        w[0, KEYS.index(k)] = v
-    return 100.0 * w / w.sum()
+comp = composition_row  # species key -> mass, renormalised to 100 wt %
 
 
 def _thermo_chemical(cas):

@@ -24,16 +24,12 @@ from estimator.properties.uncertainty import (
     residuals,
 )
 from estimator.specs import check
-from estimator.tables import species_keys
+from estimator.tables import composition_row, species_keys
 
 KEYS = species_keys()
 
 
-def comp(mapping: dict[str, float]) -> np.ndarray:
-    w = np.zeros((1, len(KEYS)))
-    for k, v in mapping.items():
-        w[0, KEYS.index(k)] = v
-    return 100.0 * w / w.sum()
+comp = composition_row  # species key -> mass, renormalised to 100 wt %
 
 
 def _defaults(ww, names=None):
