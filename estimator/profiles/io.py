@@ -124,7 +124,7 @@ def read_profile(
     if species_col is not None and value_col is not None:
         table, rows = _long_to_wide(table, species_col, value_col, label, rows)
     profile = _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns, fractions)
-    return replace(profile, file_notes=(note,)) if note else profile
+    return replace(profile, file_notes=(note, *profile.file_notes)) if note else profile
 
 
 def input_size_limit_mb(kind: str) -> float:
@@ -561,11 +561,14 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns,
         raise InputFileError(
             f"{label}: no species columns found (expected headers such as C16:0, C18:1, oleic)"
         )
+    guessed = ()
     if sample_col is None:
         text_cols = [c for c in meta_cols if not pd.api.types.is_numeric_dtype(table[c])]
         sample_col = text_cols[0] if text_cols else None
         if sample_col is not None:
             meta_cols.remove(sample_col)
+            guessed = (f"{label}: no sample column ({', '.join(SAMPLE_COLUMNS[:5])} ...); "
+                       f"the sample ids are taken from column {sample_col!r}",)
     if sample_col is not None:
         ids = _sample_ids(table[sample_col])
         blank = ids == ""
@@ -596,10 +599,11 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns,
         meta[col] = _maybe_numeric(meta[col])
     composition = pd.DataFrame(comp, index=ids)
     meta.index = ids
-    return Profile.from_frame(
+    profile = Profile.from_frame(
         composition, basis=basis, sum_tolerance=sum_tolerance, other=other, metadata=meta,
         source=label, rows=rows,
     )
+    return replace(profile, file_notes=guessed) if guessed else profile
 
 
 def _sample_ids(column: pd.Series) -> pd.Series:

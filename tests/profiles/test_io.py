@@ -190,3 +190,15 @@ def test_json_null_is_an_empty_cell_but_true_is_refused(tmp_path):
     bad = [{"sample": "A", "C16:0": False, "C18:1": 100}]
     with pytest.raises(EstimatorError, match=r"row 1, column 'C16:0': False is not a number"):
         read_profile(write(tmp_path, "b.json", json.dumps(bad)))
+
+
+def test_ids_taken_from_a_text_column_when_no_sample_column_is_said_in_a_note(tmp_path):
+    # a missing 'lot' column must not silently turn supplier names into lot ids
+    path = tmp_path / "offers.csv"
+    path.write_text("supplier,C16:0,C18:1\nNorthfield Oils,20,80\nBay Renderers,30,70\n")
+    profile = read_profile(path)
+    assert list(profile.samples) == ["Northfield Oils", "Bay Renderers"]
+    assert any("no sample column" in n and "'supplier'" in n for n in profile.file_notes)
+    named = tmp_path / "named.csv"
+    named.write_text("lot,supplier,C16:0,C18:1\nL1,Northfield Oils,20,80\n")
+    assert not read_profile(named).file_notes
