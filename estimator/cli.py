@@ -238,8 +238,9 @@ def _long_for_terminal(long):
 
 
 def _methods_footer() -> str:
-    return ("Defaults and citations: 'fame-estimator methods'. Estimates are not "
-            "certification; see the README cautions.")
+    from estimator.cautions import CAUTION_SHORT
+
+    return f"Defaults and citations: 'fame-estimator methods'. {CAUTION_SHORT}"
 
 
 @cli.command(cls=ReportingCommand, context_settings=CONTEXT)

@@ -295,8 +295,7 @@ def _read_text(path: Path, find_header: bool = True) -> RawTable:
     except UnicodeDecodeError:
         raise _decode_error(path, encoding) from None
     except (pd.errors.ParserError, ValueError, OverflowError) as exc:
-        msg = str(exc).strip().splitlines()[-1] if str(exc).strip() else type(exc).__name__
-        raise InputFileError(f"{label}: cannot parse the table ({msg})") from None
+        raise _parse_error(label, exc, sep) from None
     if frame.empty:
         raise InputFileError(f"{label}: the file has a header but no data rows")
     first = header_index + 2
@@ -606,6 +605,23 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns,
     return replace(profile, file_notes=guessed) if guessed else profile
 
 
+_CELL_COUNT = re.compile(r"Expected (\d+) fields in line (\d+), saw (\d+)")
+
+
+def _parse_error(label: str, exc: Exception, sep: str) -> InputFileError:
+    """The parser's complaint in the reader's words: which row, how many cells, a likely cause."""
+    text = str(exc).strip()
+    counted = _CELL_COUNT.search(text)
+    if counted:
+        expected, line, saw = counted.groups()
+        hint = ("; a decimal comma in a number or a comma inside unquoted text splits a cell "
+                "in two: quote the text, or separate the cells with ';'") if sep == "," else ""
+        return InputFileError(f"{label}: row {line} has {saw} cells where the header has "
+                              f"{expected}{hint}")
+    msg = text.splitlines()[-1] if text else type(exc).__name__
+    return InputFileError(f"{label}: cannot parse the table ({msg})")
+
+
 def _sample_ids(column: pd.Series) -> pd.Series:
     """:func:`_sample_id` of every cell; a column of text in one pass."""
     values = column.to_numpy(dtype=object)
@@ -690,8 +706,7 @@ def read_profile_chunks(
     except UnicodeDecodeError:
         raise InputFileError(f"{label}: not a UTF-8 text file (near row {first_row})") from None
     except pd.errors.ParserError as exc:
-        msg = str(exc).strip().splitlines()[-1]
-        raise InputFileError(f"{label}: cannot parse the table ({msg})") from None
+        raise _parse_error(label, exc, options["sep"]) from None
 
 
 def _chunk_options(path: Path) -> dict | None:

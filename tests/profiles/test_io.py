@@ -202,3 +202,19 @@ def test_ids_taken_from_a_text_column_when_no_sample_column_is_said_in_a_note(tm
     named = tmp_path / "named.csv"
     named.write_text("lot,supplier,C16:0,C18:1\nL1,Northfield Oils,20,80\n")
     assert not read_profile(named).file_notes
+
+
+@pytest.mark.parametrize("chunked", [False, True])
+def test_a_row_with_one_cell_too_many_names_the_row_and_the_likely_decimal_comma(tmp_path,
+                                                                                  chunked):
+    from estimator.profiles.io import read_profile_chunks
+
+    path = tmp_path / "lots.csv"
+    path.write_text("sample,C16:0,C18:1\nL1,20,80\nL2,20,5,75\n")  # "20,5" meant 20.5
+    with pytest.raises(EstimatorError) as err:
+        if chunked:
+            list(read_profile_chunks(path, min_bytes=0, chunk_rows=1))
+        else:
+            read_profile(path)
+    assert str(err.value).startswith("lots.csv: row 3 has 4 cells where the header has 3; "
+                                     "a decimal comma in a number")
