@@ -156,6 +156,7 @@ def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_
 
     from estimator.comparison import SPEC_LABELS, check_profile
     from estimator.report.html import plus_minus
+    from estimator.report.labels import pretty_unit
     from estimator.specs import PROPERTY_LABELS, limits, normalise_climate_class
 
     names = spec_names or DEFAULT_SPECS
@@ -187,7 +188,7 @@ def check(inputs, oils, basis, sum_tolerance, reference, sample_sheet, internal_
             "property": table["property"].map(lambda p: PROPERTY_LABELS.get(p, p)),
             "estimate": [plus_minus(v, e) for v, e in zip(table["estimate"], table["error"])],
             "limit": [f"{sign[b]} {v:g}" for b, v in zip(table["bound"], table["limit"])],
-            "unit": table["unit"].replace({"1": "-"}),
+            "unit": [pretty_unit(str(u)) or "-" for u in table["unit"]],
             "verdict": table["verdict"],
             "probability_meets": [("" if pd.isna(p) else f"{p:.2f}")
                                   for p in table["probability_meets"]],
@@ -328,8 +329,10 @@ def _print_ranking(result, *, short: bool) -> None:
         "yield t/t": r["fuel_yield_t_per_t_oil"],
         "cost per t fuel": r["cost_per_t_fuel"],
     })
-    click.echo("Lots ranked: meeting every spec first; then failures a treatment fixes; then "
-               "failures none fixes; closer to the limits, then cheaper fuel, first\n")
+    click.echo("Lots ranked: those meeting every limit first; then those in doubt (too close "
+               "to call, or outside a method's range); then failures a treatment fixes; then "
+               "failures none fixes. Within each: closer to the limits first, then cheaper "
+               "fuel.\n")
     click.echo(format_table(shown, transpose=False))
     if unjudged:
         click.echo("* CFPP not judged: no --climate-class given; a lot that 'meets' may still "

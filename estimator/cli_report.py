@@ -50,8 +50,8 @@ def report(scenario_file, models, outdir, allow_outside, svg) -> None:
     cols = [c for c in ("rank", "sample", "decision", "cost_per_t_fuel") if c in ranked.columns]
     shown = ranked[cols].rename(columns={"sample": "lot"})
     shown = shown.rename(columns={c: column_label(c) for c in shown.columns})
-    click.echo(f"{scenario.title}\n\nLots ranked (meeting every spec first, then failures a "
-               "treatment fixes, then failures none fixes):")
+    click.echo(f"{scenario.title}\n\nLots ranked (those meeting every limit first, then those "
+               "in doubt, then failures a treatment fixes, then failures none fixes):")
     click.echo(format_table(shown, transpose=False))
     if result.blend is not None and result.blend["summary"] is not None:
         click.echo("\nHighest blend level (% v/v FAME; in brackets with the stated error "
