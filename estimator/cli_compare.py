@@ -326,8 +326,9 @@ def _print_ranking(result, *, short: bool) -> None:
         "CFPP °C": [plus_minus(v, e) for v, e in zip(r["cfpp_C"], r["cfpp_C_error"])],
         "OS 110 °C h": [plus_minus(v, e) for v, e in zip(r["oxidation_stability_110C_h"],
                                                   r["oxidation_stability_110C_h_error"])],
-        "yield t/t": r["fuel_yield_t_per_t_oil"],
-        "cost per t fuel": r["cost_per_t_fuel"],
+        # one precision per column: yields to 0.001 t/t, costs to the whole currency unit
+        "yield t/t": [("-" if pd.isna(v) else f"{v:.3f}") for v in r["fuel_yield_t_per_t_oil"]],
+        "cost per t fuel": [("-" if pd.isna(v) else f"{v:.0f}") for v in r["cost_per_t_fuel"]],
     })
     click.echo("Lots ranked: those meeting every limit first; then those in doubt (too close "
                "to call, or outside a method's range); then failures a treatment fixes; then "
