@@ -249,8 +249,8 @@ RULE_WORDS = {
 #: cells of :func:`estimator.mixing.least_cost_mix`'s limits table).
 LINEAR_FORM_WORDS = {
     "identity": "linear in the shares",
-    "reciprocal": "linear in the shares as its reciprocal (ideal mixing of volumes)",
-    "logarithm": "linear in the shares as its logarithm (logarithmic mixing)",
+    "reciprocal": "linear by ideal mixing of volumes",
+    "logarithm": "linear by logarithmic mixing",
     "X = C18:2 + C18:3 (Park 2008)": "a bound on linoleic plus linolenic ester "
                                      "(Park et al. 2008)",
     "Y = bis-allylic oxidizability (on Park 2008's scale)": "a bound on the bis-allylic "
@@ -267,7 +267,7 @@ def linear_form_words(key: str) -> str:
     Examples
     --------
     >>> linear_form_words("logarithm")
-    'linear in the shares as its logarithm (logarithmic mixing)'
+    'linear by logarithmic mixing'
     """
     return LINEAR_FORM_WORDS.get(str(key), for_readers(str(key)))
 
