@@ -181,7 +181,7 @@ def mix_sections(result, *, figure=None) -> list[Section]:
     c = result.constraints
     limits = pd.DataFrame({"limit": c["constraint"].map(for_readers)})
     for col, name in (("value", "value of the mix"), ("margin", "margin to the limit"),
-                      ("binding", "sets the mix"), ("meets", "met")):
+                      ("binding", "sets the mix"), ("meets", "met by the estimate")):
         if col in c.columns:
             limits[name] = c[col].to_numpy()
     extra = [k for k in c.columns if k not in {"constraint", "property", "kind", "limit",
