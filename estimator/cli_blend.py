@@ -475,17 +475,29 @@ def _print_mix(result, *, short: bool = False) -> None:
         "in errors": [_bands_text(b, e) for b, e in zip(c["headroom_bands"], c["error"])],
         "binding": c["binding"].map({True: "binding", False: ""}),
     })
+    if "in_domain" in c.columns:
+        shown["method range"] = c["in_domain"].map({True: "inside", False: "outside"})
     if not short:
-        shown["how"] = c["linear_form"]
+        from estimator.report.labels import linear_form_words
+
+        shown["how"] = c["linear_form"].map(linear_form_words)
     click.echo(f"Limits on the mixed fuel: headroom to each limit (>= 0 meets), also in stated "
                f"errors; required: {result.margin_bands:g} (--margin)")
     click.echo(format_table(shown, transpose=False))
     if result.verdicts is not None:
+        from estimator.report.labels import spec_name
+        from estimator.report.summary import mix_undecided_text
         from estimator.specs import summarise
 
         summary = summarise(result.verdicts)
-        click.echo("\nverdict with the stated errors: "
-                   + "; ".join(f"{s} {summary.loc['mix', s]}" for s in summary.columns))
+        cells = {s: summary.loc["mix", s] for s in summary.columns}
+        click.echo("\nverdict with the stated errors: " + "; ".join(
+            f"{spec_name(s)} "
+            + ("meets on the properties estimated" if cell == "meets" else cell)
+            for s, cell in cells.items()))
+        undecided = mix_undecided_text(result)
+        if undecided:
+            click.echo(undecided)
 
 
 def _bands_text(bands: float, error: float) -> str:

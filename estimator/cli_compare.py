@@ -73,9 +73,10 @@ def model_line(model_props: dict | None) -> str:
     """One line naming the properties a lab model gave ('' without models)."""
     if not model_props:
         return ""
-    parts = [f"{p} ({how})" for p, how in model_props.items()]
-    return "From the lab's model file(s), replacing the published estimates: " + "; ".join(
-        parts) + "."
+    from estimator.report.labels import model_sources
+
+    return ("From the lab's model file(s), replacing the published estimates: "
+            + model_sources(model_props) + ".")
 
 
 def _inputs(func):

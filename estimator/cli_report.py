@@ -35,7 +35,7 @@ def report(scenario_file, models, outdir, allow_outside, svg) -> None:
     """
     from estimator.cautions import CAUTION_SHORT
     from estimator.files import protect_inputs
-    from estimator.report.labels import column_label, for_readers
+    from estimator.report.labels import column_label, for_readers, model_sources
     from estimator.report.scenario_report import write_scenario
     from estimator.report.tables import format_table
     from estimator.scenario import read_scenario, run_scenario
@@ -68,8 +68,6 @@ def report(scenario_file, models, outdir, allow_outside, svg) -> None:
                    f"{for_readers(f.statement)}")
     if result.model_properties:
         click.echo("\nFrom the lab's model, replacing the published estimates in every "
-                   "decision: " + "; ".join(
-                       f"{column_label(p, unit=False)} ({for_readers(how)})"
-                       for p, how in result.model_properties.items()))
+                   "decision: " + model_sources(result.model_properties))
     click.echo(f"\nwrote {written['report']} and the tables, plots and model beside it")
     click.echo(CAUTION_SHORT)

@@ -644,6 +644,9 @@ def _finish(profile, problem, valued, shares, feasible, message, solver, hows,
                             long)
     long = pd.concat([long.astype({"property": str, "method": str, "unit": str, "note": str}),
                       composition_estimates(mix[None, :], ["mix"])], ignore_index=True)
+    long_decide = decision_rows(long)
+    decides = long_decide.assign(_ok=long_decide["in_domain"].astype(bool))
+    in_domain = decides.groupby(decides["property"].astype(str))["_ok"].all().to_dict()
     vals = problem.values(shares)
     errs = problem.model.errors(list(dict.fromkeys(c.property for c in problem.all)),
                                 mix[None, :])
@@ -663,11 +666,12 @@ def _finish(profile, problem, valued, shares, feasible, message, solver, hows,
             "value": v, "error": err, "headroom": headroom, "headroom_bands": bands,
             "margin": 0.0 if binding else margin, "binding": binding,
             "meets": problem.meets(c, v),
+            # False: the estimate lies outside its method's range and cannot decide the limit
+            "in_domain": bool(in_domain.get(c.property, True)),
             "linear_form": hows.get(c.label, "nonlinear (checked, SLSQP)"),
             "source": c.source,
         })
     ctable = pd.DataFrame(crow)
-    long_decide = decision_rows(long)
     verdicts = check(long_decide, spec, climate_class) if spec is not None else None
     targets = _target_verdicts(long_decide, [c for c in problem.all if c.source == "user"])
     if targets is not None:

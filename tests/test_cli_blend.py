@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import pandas as pd
@@ -124,8 +125,45 @@ def test_mix_prints_shares_cost_limits_and_verdict():
     assert "cost of the mixed fuel (oil, methanol, catalyst, pretreatment, less the glycerol " \
         "credit): 979.3 per t of fuel" in out  # regression
     assert "oxidation stability >= 8 h" in out and "binding" in out
-    assert "verdict with the stated errors: en14214 " in out
+    assert "verdict with the stated errors: EN 14214 " in out  # the spec's name, not its key
     assert out.rstrip().endswith(CAUTION_SHORT)
+
+
+def test_mix_prints_words_for_readers_and_says_which_limits_its_estimates_cannot_decide(
+        tmp_path):
+    # palm and tallow esters lie beyond the Rancimat method's fitted domain (invented lots)
+    lines = Path(LOTS).read_text(encoding="utf-8").splitlines()
+    lots = tmp_path / "lots.csv"
+    lots.write_text("\n".join([lines[0], *(x for x in lines if x.startswith(("LOT-P1",
+                                                                           "LOT-T1")))]))
+    result = run(mix, lots, "--basis", "fatty-acid", "--spec", "astm-d6751")
+    assert result.exit_code == 0, result.output
+    out = result.output
+    verdict = next(x for x in out.splitlines() if x.startswith("verdict with the stated"))
+    assert verdict == ("verdict with the stated errors: ASTM D6751 outside method range "
+                       "(oxidation stability)")
+    assert "The estimate of oxidation stability 110 °C for this mix lies outside the range " \
+           "its method was fitted on: it cannot decide whether the mix meets ASTM D6751 on " \
+           "oxidation stability 110 °C; a laboratory test by the standard method decides " \
+           "that limit." in out
+    table = out.split("Limits on the mixed fuel", 1)[1].split("verdict with", 1)[0]
+    row = next(x for x in table.splitlines() if x.startswith("oxidation stability"))
+    assert " outside " in row
+    assert "linear by logarithmic mixing" in table  # viscosity, in words
+    assert not re.search(r"\b(identity|logarithm|reciprocal)\b", table)
+    assert out.rstrip().endswith(CAUTION_SHORT)
+
+
+def test_mix_meeting_every_limit_says_it_meets_on_the_properties_estimated(tmp_path):
+    lines = Path(LOTS).read_text(encoding="utf-8").splitlines()
+    lots = tmp_path / "lots.csv"
+    lots.write_text("\n".join([lines[0], *(x for x in lines if x.startswith(("LOT-R1",
+                                                                           "LOT-U1")))]))
+    result = run(mix, lots, "--basis", "fatty-acid", "--spec", "astm-d6751")
+    assert result.exit_code == 0, result.output
+    assert "verdict with the stated errors: ASTM D6751 meets on the properties estimated\n" \
+        in result.output
+    assert "cannot decide" not in result.output
 
 
 def test_mix_writes_lot_shares_and_sheets_of_properties_and_verdicts(tmp_path):

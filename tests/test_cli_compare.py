@@ -244,11 +244,13 @@ def test_compare_bad_costs_file_is_one_line(tmp_path):
 def test_check_and_compare_take_a_lab_model_and_say_which_properties_came_from_it(lab_model):
     result = run(check, "--oil", "beef-tallow", "--spec", "en14214", "--model", str(lab_model))
     assert result.exit_code == 0, result.output
+    # readers see words: the property's name and the model in words, not their keys
     assert "From the lab's model file(s), replacing the published estimates: " \
-           "oxidation_stability_110C_h (lab model" in result.output
+           "oxidation stability 110 °C (lab model" in result.output
+    assert "oxidation_stability_110C_h" not in result.output
     compared = run(compare, str(LOTS), "--basis", "fatty-acid", "--model", str(lab_model))
     assert compared.exit_code == 0, compared.output
-    assert "oxidation_stability_110C_h (lab model" in compared.output
+    assert "oxidation stability 110 °C (lab model" in compared.output
     assert "lab_model.json" in compared.output
 
 
@@ -258,11 +260,11 @@ def test_mix_and_blend_take_a_lab_model(lab_model):
     mixed = run(mix, str(LOTS), "--basis", "fatty-acid", "--spec", "astm-d6751",
                 "--max-cfpp", "0", "--model", str(lab_model))
     assert mixed.exit_code in (0, 1), mixed.output
-    assert "oxidation_stability_110C_h (lab model" in mixed.output
+    assert "oxidation stability 110 °C (lab model" in mixed.output
     blended = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter",
                   "--model", str(lab_model))
     assert blended.exit_code == 0, blended.output
-    assert "oxidation_stability_110C_h (lab model" in blended.output
+    assert "oxidation stability 110 °C (lab model" in blended.output
 
 
 def test_compare_notes_name_methods_in_words_not_keys():

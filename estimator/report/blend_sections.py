@@ -152,6 +152,9 @@ def mix_sections(result, *, figure=None) -> list[Section]:
         head += (f" Every limit was moved {margin:g} stated error(s) inside (margin), so that "
                  "the mix's own verdict is not 'too close to call'." if margin > 0 else
                  " No margin was asked for: the mix may sit on its limits.")
+        from estimator.report.summary import mix_undecided_text
+
+        head += f" {mix_undecided_text(result)}".rstrip()
     else:
         head = f"{for_readers(result.message)}."
     from_model = getattr(result, "model_properties", None) or {}
@@ -178,7 +181,7 @@ def mix_sections(result, *, figure=None) -> list[Section]:
     c = result.constraints
     limits = pd.DataFrame({"limit": c["constraint"].map(for_readers)})
     for col, name in (("value", "value of the mix"), ("margin", "margin to the limit"),
-                      ("binding", "sets the mix"), ("meets", "met")):
+                      ("binding", "sets the mix"), ("meets", "met by the estimate")):
         if col in c.columns:
             limits[name] = c[col].to_numpy()
     extra = [k for k in c.columns if k not in {"constraint", "property", "kind", "limit",

@@ -23,6 +23,7 @@ import re
 from functools import cache
 
 __all__ = [
+    "LINEAR_FORM_WORDS",
     "RULE_WORDS",
     "readable_cells",
     "candidate_name",
@@ -30,7 +31,9 @@ __all__ = [
     "for_readers",
     "format_value",
     "mark_text",
+    "linear_form_words",
     "method_name",
+    "model_sources",
     "plus_minus",
     "pretty_unit",
     "spec_name",
@@ -240,6 +243,48 @@ RULE_WORDS = {
     "ideal-solubility": "ideal solubility of the saturated esters and the diesel's wax",
     "cloud-gap": "blend cloud point less the volume-weighted cloud point-CFPP gap (ours)",
 }
+
+
+#: How a limit enters the least-cost mix, in words (the keys are the ``linear_form``
+#: cells of :func:`estimator.mixing.least_cost_mix`'s limits table).
+LINEAR_FORM_WORDS = {
+    "identity": "linear in the shares",
+    "reciprocal": "linear by ideal mixing of volumes",
+    "logarithm": "linear by logarithmic mixing",
+    "X = C18:2 + C18:3 (Park 2008)": "a bound on linoleic plus linolenic ester "
+                                     "(Park et al. 2008)",
+    "Y = bis-allylic oxidizability (on Park 2008's scale)": "a bound on the bis-allylic "
+                                                            "oxidizability (Park et al. 2008)",
+    "per-ester mole-fraction bounds (ideal solubility)": "a bound on each saturated ester "
+                                                         "(ideal solubility)",
+    "nonlinear (checked, SLSQP)": "nonlinear: checked on the answer, refined by SLSQP",
+}
+
+
+def linear_form_words(key: str) -> str:
+    """How a limit enters the least-cost mix, in words.
+
+    Examples
+    --------
+    >>> linear_form_words("logarithm")
+    'linear by logarithmic mixing'
+    """
+    return LINEAR_FORM_WORDS.get(str(key), for_readers(str(key)))
+
+
+def model_sources(model_properties) -> str:
+    """The properties a lab model gave and which model, in words, ``;``-separated.
+
+    ``model_properties`` maps a property to ``'lab model <candidate> from <file>'``
+    (:func:`estimator.comparison.model_properties`).
+
+    Examples
+    --------
+    >>> model_sources({"cfpp_C": "lab model recalibrated:ramos2009 from lab.json"})
+    'CFPP (lab model Ramos et al. 2009, recalibrated to the lab from lab.json)'
+    """
+    return "; ".join(f"{column_label(p, unit=False)} ({for_readers(how)})"
+                     for p, how in dict(model_properties or {}).items())
 
 
 def spec_name(key: str) -> str:

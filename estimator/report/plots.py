@@ -172,28 +172,32 @@ def _lot_positions(n: int) -> np.ndarray:
     return np.arange(n)[::-1].astype(float)
 
 
+#: The ring drawn around the marker of an estimate outside its method's fitted domain:
+#: larger, grey, dotted and unfilled, so no verdict marker (all filled) looks like it.
+DOMAIN_RING = {"marker": "o", "facecolor": "none", "edgecolor": "#555555",
+               "linestyle": ":", "linewidth": 1.4, "scale": 3.2,
+               "text": "dotted ring: estimate outside its method's fitted domain"}
+
+
 def _markers(ax, x, y, groups, in_domain, legends: Mapping[str, str], size: float) -> None:
-    """Scatter one marker per lot, styled by verdict; open markers lie out of domain."""
+    """Scatter one filled marker per lot, styled by verdict; a dotted ring around the
+    marker says the estimate lies outside its method's fitted domain."""
     n = len(x)
     inside = np.ones(n, dtype=bool) if in_domain is None else np.asarray(in_domain, bool)
     finite = np.isfinite(x) & np.isfinite(y)
     for verdict, style in VERDICT_STYLE.items():
         mask = np.array([g == verdict for g in groups], dtype=bool) & finite
-        if not mask.any():
-            continue
-        # the legend entry goes on the first drawn set of this verdict
-        for part, filled in ((mask & inside, True), (mask & ~inside, False)):
-            if not part.any():
-                continue
-            label = legends[verdict]
-            legends = {**legends, verdict: "_nolegend_"}
-            ax.scatter(x[part], y[part], s=size, marker=style["marker"],
-                       facecolor=style["color"] if filled else "white",
-                       edgecolor="#222222" if filled else style["edge"],
-                       linewidth=0.7 if filled else 1.8, zorder=3, label=label)
-    if (~inside & finite).any():
-        ax.scatter([], [], s=size, marker="o", facecolor="white", edgecolor="#555555",
-                   linewidth=1.8, label="open marker: outside fitted domain")
+        if mask.any():
+            ax.scatter(x[mask], y[mask], s=size, marker=style["marker"],
+                       facecolor=style["color"], edgecolor="#222222", linewidth=0.7,
+                       zorder=3, label=legends[verdict])
+    out = ~inside & finite
+    if out.any():
+        ring = DOMAIN_RING
+        ax.scatter(x[out], y[out], s=size * ring["scale"], marker=ring["marker"],
+                   facecolor=ring["facecolor"], edgecolor=ring["edgecolor"],
+                   linestyle=ring["linestyle"], linewidth=ring["linewidth"], zorder=4,
+                   label=ring["text"])
 
 
 @_styled
@@ -226,8 +230,8 @@ def property_by_lot(
     verdicts : sequence of str, optional
         Verdict per lot (keys of :data:`VERDICT_STYLE`) setting marker colour and shape.
     in_domain : sequence of bool, optional
-        False draws the lot's marker open: the estimate lies outside its method's fitted
-        domain.
+        False draws a dotted ring around the lot's marker: the estimate lies outside
+        its method's fitted domain.
     """
     lots = [str(x) for x in lots]
     n = len(lots)
@@ -452,7 +456,8 @@ def cost_per_tonne(
     title: str | None = None,
     ax=None,
 ):
-    """Feedstock cost per tonne of fuel for each lot, as horizontal bars in the order given.
+    """Total cost per tonne of fuel for each lot (feedstock plus processing), as
+    horizontal bars in the order given.
 
     Bars are coloured and hatched by verdict group; a lot without a price is marked.
     """
@@ -480,8 +485,9 @@ def cost_per_tonne(
     ax.set_yticks(y, lots)
     ax.set_ylim(-0.6, n - 0.4)
     ax.grid(axis="y", visible=False)
-    ax.set_xlabel(axis_label("feedstock cost of the fuel", f"{currency} per t of fuel"))
-    ax.set_title(title or "What a tonne of fuel costs in feedstock")
+    ax.set_xlabel(axis_label("cost of the fuel: feedstock plus processing",
+                             f"{currency} per t of fuel"))
+    ax.set_title(title or "Total cost of a tonne of fuel")
     _legend(fig, ax, own, 3)
     return fig
 
@@ -654,6 +660,11 @@ def _worst(verdicts: pd.DataFrame, lots: Sequence[str], props: Sequence[str]) ->
 
 
 def _in_domain(estimates: pd.DataFrame, lots: Sequence[str], props: Sequence[str]) -> list[bool]:
+    """Per lot: every estimate that decides (a lab model's, where one is given) lies inside
+    its fitted domain; the published rows a lab model replaced do not count."""
+    from estimator.comparison import decision_rows
+
+    estimates = decision_rows(estimates)
     rows = estimates[estimates["property"].isin(list(props))]
     inside = rows.assign(_ok=rows["in_domain"].astype(bool)).groupby("sample")["_ok"].all()
     return [bool(inside.get(lot, True)) for lot in lots]
@@ -743,8 +754,9 @@ def comparison_figures(comparison) -> list[Plot]:
                          verdicts=list(ranked["overall"]))
     plots.append(Plot(
         "cost_per_t_fuel", fig,
-        "Feedstock cost per tonne of fuel: price per tonne of oil divided by the theoretical "
-        "fuel yield. Lots in ranked order.",
+        "Total cost per tonne of fuel: the feedstock (price per tonne of oil divided by the "
+        "theoretical fuel yield) plus processing (methanol, catalyst, any pretreatment or "
+        "antioxidant dose, less the glycerol credit). Lots in ranked order.",
     ))
     if shown_note:
         plots = [Plot(p.name, p.figure, f"{p.caption} {shown_note}") for p in plots]

@@ -21,35 +21,46 @@ from estimator.report.labels import (
     column_label,
     for_readers,
     format_value,
+    model_sources,
     plus_minus,
     pretty_unit,
     spec_name,
 )
 
-__all__ = ["decision_summary", "lab_changes", "lot_reasons", "lots_table"]
+__all__ = ["decision_summary", "lab_changes", "lot_reasons", "lots_table", "mix_outside_range",
+           "mix_undecided_text"]
 
 _BOUND_WORD = {"min": "min", "max": "max"}
+#: How a lot's row and the mix name estimates outside their method's range.
+OUTSIDE_RANGE_WORDS = ("outside method range (the estimate cannot decide; a laboratory "
+                       "test does)")
 
 
 def _verdict_word(verdict: str) -> str:
     return str(verdict).split(" (")[0].split(";")[0].strip()
 
 
-def lot_reasons(verdicts: pd.DataFrame) -> dict[str, tuple[list[str], list[str]]]:
-    """Per lot: (what fails, what is too close to call), one phrase per property.
+#: The verdicts a lot's reasons list, in the order of the slots :func:`lot_reasons` fills.
+_REASON_VERDICTS = ("fails", "too close to call", "outside method range")
+
+
+def lot_reasons(verdicts: pd.DataFrame) -> dict[str, tuple[list[str], list[str], list[str]]]:
+    """Per lot: (what fails, what is too close to call, what lies outside its method's
+    range), one phrase per property.
 
     A phrase reads ``oxidation stability 110 °C 6.7 ± 0.4 h (EN 14214 min 8)``; a
-    ``probability_meets`` column, where present, adds the chance of meeting the limit.
+    ``probability_meets`` column, where present, adds the chance of meeting the limit
+    (an estimate outside its method's range has none).
     """
-    out: dict[str, tuple[list[str], list[str]]] = {}
+    out: dict[str, tuple[list[str], list[str], list[str]]] = {}
     if verdicts is None or verdicts.empty:
         return out
     has_p = "probability_meets" in verdicts.columns
     for lot in verdicts["sample"].astype(str).unique():
-        out[lot] = ([], [])
+        out[lot] = ([], [], [])
     words = verdicts["verdict"].astype(str).str.split(" (", n=1, regex=False).str[0]
     words = words.str.split(";", n=1, regex=False).str[0].str.strip()
-    mask = words.isin(["fails", "too close to call"]).to_numpy()
+    mask = words.isin(list(_REASON_VERDICTS)).to_numpy()
     if not mask.any():
         return out
     # the rows of one lot, verdict word and property, in the order they come (one pass;
@@ -58,7 +69,7 @@ def lot_reasons(verdicts: pd.DataFrame) -> dict[str, tuple[list[str], list[str]]
     records = verdicts[mask].assign(_word=words.to_numpy()[mask]).to_dict("records")
     for row in records:
         groups.setdefault((str(row["sample"]), row["_word"], row["property"]), []).append(row)
-    for word, slot in (("fails", 0), ("too close to call", 1)):
+    for slot, word in enumerate(_REASON_VERDICTS):
         for (lot, w, prop), group in groups.items():
             if w != word:
                 continue
@@ -85,12 +96,14 @@ def lots_table(comparison) -> pd.DataFrame:
         lot = lot + " (" + r["feedstock"].astype(str) + ")"
     why = []
     for name in r["sample"].astype(str):
-        fails, doubts = reasons.get(name, ([], []))
+        fails, doubts, outside = reasons.get(name, ([], [], []))
         parts = []
         if fails:
             parts.append("fails: " + "; ".join(fails))
         if doubts:
             parts.append("in doubt: " + "; ".join(doubts))
+        if outside:
+            parts.append(f"{OUTSIDE_RANGE_WORDS}: " + "; ".join(outside))
         why.append(". ".join(parts) if parts else "meets every limit checked")
     if "fixable_failures" in r.columns:
         why = [w + (f". Fixable: {fix}" if isinstance(fix, str) and fix else "")
@@ -170,6 +183,100 @@ def _decimals(error: float) -> int:
     return len(text.split(" ± ")[-1].partition(".")[2]) if np.isfinite(error) else 1
 
 
+def _and(names: Sequence[str]) -> str:
+    names = list(names)
+    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
+
+
+def mix_outside_range(mix) -> dict[str, list[str]]:
+    """Per specification key of the mix's verdicts (``target`` for the user's own limits),
+    the properties whose estimate for the mix lies outside its method's range."""
+    v = getattr(mix, "verdicts", None)
+    out: dict[str, list[str]] = {}
+    if v is None or v.empty:
+        return out
+    rows = v[v["verdict"].astype(str) == "outside method range"]
+    for spec, prop in zip(rows["spec"].astype(str), rows["property"].astype(str)):
+        props = out.setdefault(spec, [])
+        if prop not in props:
+            props.append(prop)
+    return out
+
+
+def _own_targets(mix, props: Sequence[str] | None = None, *, keep: bool = True) -> list[str]:
+    """The user's own limits of the mix in words; with ``props``, only (``keep``) or all
+    but (not ``keep``) those on these properties."""
+    c = mix.constraints
+    if "source" not in c.columns:
+        return []
+    own = c[c["source"].astype(str) == "user"]
+    if props is not None:
+        inside = own["property"].astype(str).isin(list(props))
+        own = own[inside if keep else ~inside]
+    return [for_readers(str(x)) for x in own["constraint"]]
+
+
+def mix_undecided_text(mix) -> str:
+    """Plain text naming the limits of the mix its estimates cannot decide ('' if none):
+    which properties lie outside their method's range, and that a lab test decides them.
+
+    Examples
+    --------
+    >>> import pandas as pd
+    >>> from types import SimpleNamespace
+    >>> mix = SimpleNamespace(verdicts=pd.DataFrame({
+    ...     "spec": ["astm-d6751", "astm-d6751"], "property": ["cetane_number", "cfpp_C"],
+    ...     "verdict": ["outside method range", "meets"]}), constraints=pd.DataFrame())
+    >>> mix_undecided_text(mix)  # doctest: +NORMALIZE_WHITESPACE
+    'The estimate of cetane number for this mix lies outside the range its method was
+    fitted on: it cannot decide whether the mix meets ASTM D6751 on cetane number; a
+    laboratory test by the standard method decides that limit.'
+    """
+    out = mix_outside_range(mix)
+    if not out:
+        return ""
+    props = list(dict.fromkeys(p for ps in out.values() for p in ps))
+    where = []
+    for spec, ps in out.items():
+        if spec == "target":
+            own = _own_targets(mix, ps) or [column_label(p, unit=False) for p in ps]
+            where.append(f"your own target{'s' if len(own) > 1 else ''} ({'; '.join(own)})")
+        else:
+            where.append(f"{spec_name(spec)} on {_and(column_label(p, unit=False) for p in ps)}")
+    one = len(props) == 1
+    limits = sum(len(ps) for ps in out.values())
+    return (f"The estimate{'' if one else 's'} of "
+            f"{_and(column_label(p, unit=False) for p in props)} for this mix "
+            f"{'lies' if one else 'lie'} outside the range {'its' if one else 'their'} method "
+            f"was fitted on: {'it' if one else 'they'} cannot decide whether the mix meets "
+            f"{' or '.join(where)}; a laboratory test by the standard method decides "
+            f"{'that limit' if limits == 1 else 'those limits'}.")
+
+
+def _held_inside(mix) -> list[str]:
+    """The limits the mix is held inside on estimates inside their methods' ranges."""
+    out = mix_outside_range(mix)
+    c = mix.constraints
+    held = []
+    spec = getattr(mix, "spec", None)
+    if spec:
+        undecided = out.get(str(spec), [])
+        if not undecided:
+            held.append(f"every limit of {spec_name(spec)}")
+        elif "property" in c.columns:
+            from_spec = c["source"].astype(str) != "user" if "source" in c.columns else \
+                pd.Series(True, index=c.index)
+            rest = [p for p in dict.fromkeys(c.loc[from_spec, "property"].astype(str))
+                    if p not in undecided]
+            if rest:
+                held.append(f"the {spec_name(spec)} limits on "
+                            f"{_and(column_label(p, unit=False) for p in rest)}")
+    own = _own_targets(mix, out.get("target", []), keep=False)
+    if own:
+        held.append(f"your own targets ({'; '.join(own)})")
+    return held
+
+
 def _mix_html(mix) -> str:
     if not mix.feasible:
         return paragraph(for_readers(mix.message) + ".")
@@ -185,20 +292,16 @@ def _mix_html(mix) -> str:
         binding = [for_readers(str(x)) for x in c.loc[c["binding"].astype(bool), "constraint"]]
     text = (f"<p><strong>Cost {mix.cost_per_t_fuel:,.1f} per t of fuel</strong> "
             f"for the mix {html.escape(', '.join(parts))} (shares of the fuel's mass).")
-    held = []
-    if getattr(mix, "spec", None):
-        held.append(f"every limit of {spec_name(mix.spec)}")
-    if "source" in c.columns:
-        own = [for_readers(str(x)) for x in c.loc[c["source"].astype(str) == "user",
-                                                  "constraint"]]
-        if own:
-            held.append(f"your own targets ({'; '.join(own)})")
+    held = _held_inside(mix)
     if held:
         margin = getattr(mix, "margin_bands", 0.0)
         sentence = (f" It is held inside {' and '.join(held)}"
                     + (f", each by at least {margin:g} stated errors" if margin > 0 else "")
                     + ".")
         text += html.escape(sentence)
+    undecided = mix_undecided_text(mix)
+    if undecided:
+        text += " <strong>Outside method range:</strong> " + html.escape(undecided)
     if binding:
         text += f" Limits that set the mix: {html.escape('; '.join(binding))}."
     return text + "</p>"
@@ -266,9 +369,7 @@ def decision_summary(comparison, *, mix=None, blend=None, fits: Sequence = (),
     from_model = getattr(comparison, "model_properties", None) or {}
     if from_model:
         body += paragraph("From the lab's model, replacing the published estimates in every "
-                          "decision: " + "; ".join(
-                              f"{column_label(p, unit=False)} ({for_readers(how)})"
-                              for p, how in from_model.items()) + ".")
+                          "decision: " + model_sources(from_model) + ".")
     body += table_html(lots_table(comparison), verdict_columns=["verdict"],
                        formats={"feedstock cost [per t fuel]": ",.0f",
                                 "cost [per t fuel]": ",.0f"})

@@ -84,3 +84,26 @@ def test_every_mixing_rule_has_words_for_readers():
     rules = {m for methods in BLEND_METHODS.values() for m in methods}
     assert rules <= set(RULE_WORDS)
     assert all("-" not in RULE_WORDS[r].split(" (")[0].split()[0] for r in rules)
+
+
+def test_every_way_a_limit_enters_the_mix_has_words_for_readers():
+    from estimator import mixing
+
+    forms = set(mixing._TRANSFORMS) | {
+        "X = C18:2 + C18:3 (Park 2008)", "Y = bis-allylic oxidizability (on Park 2008's scale)",
+        "per-ester mole-fraction bounds (ideal solubility)", "nonlinear (checked, SLSQP)"}
+    assert forms <= set(labels.LINEAR_FORM_WORDS)
+    for form in forms:
+        words = labels.linear_form_words(form)
+        assert words == labels.for_readers(words)  # nothing left for for_readers to translate
+        assert not re.search(r"\b(identity|logarithm|reciprocal)\b", words)
+
+
+def test_lab_model_sources_read_as_property_names_and_citations_not_keys():
+    text = labels.model_sources({
+        "cetane_number": "lab model recalibrated:bamgboye2008 from lab_model.json",
+        "oxidation_stability_110C_h": "lab model gp:descriptors from lab_model.json"})
+    assert text == ("cetane number (lab model Bamgboye & Hansen 2008, recalibrated to the lab "
+                    "from lab_model.json); oxidation stability 110 °C (lab model Gaussian "
+                    "process on the descriptors from lab_model.json)")
+    assert not re.search(r"[a-z]+_[a-z]|\w+:\w+", text.replace("lab_model.json", ""))

@@ -108,7 +108,9 @@ def test_cost_chart_bars_are_the_costs_and_a_missing_price_is_marked():
     ax = fig.axes[0]
     assert sorted(p.get_width() for p in ax.patches) == [750.0, 900.0]
     assert any(t.get_text() == "no price given" for t in ax.texts)
-    assert ax.get_xlabel() == "feedstock cost of the fuel [EUR per t of fuel]"
+    # the bars are the whole cost (comparison's cost_per_t_fuel), not the feedstock alone
+    assert ax.get_xlabel() == "cost of the fuel: feedstock plus processing [EUR per t of fuel]"
+    assert ax.get_title() == "Total cost of a tonne of fuel"
 
 
 def test_a_plot_draws_into_a_given_axes():
@@ -145,17 +147,37 @@ def test_every_comparison_figure_has_labelled_axes_with_units():
         assert p.caption
 
 
-def test_estimates_outside_their_fitted_domain_get_open_markers():
+def test_an_estimate_outside_its_fitted_domain_gets_a_dotted_ring_not_an_open_verdict_marker():
     fig = plots.property_by_lot(["in", "out"], [10.0, 12.0], [1.0, 1.0], label="x", unit="h",
                                 verdicts=["meets", "meets"], in_domain=[True, False])
     from matplotlib.collections import PathCollection
 
-    markers = [c for c in fig.axes[0].collections
-               if isinstance(c, PathCollection) and len(c.get_offsets())]
-    faces = {tuple(c.get_offsets()[0]): tuple(c.get_facecolor()[0]) for c in markers}
-    assert faces[(12.0, 0.0)] == (1.0, 1.0, 1.0, 1.0)  # the 'out' lot: open (white)
-    assert faces[(10.0, 1.0)] != (1.0, 1.0, 1.0, 1.0)  # the 'in' lot: filled
-    assert "open marker: outside fitted domain" in _legend_texts(fig)
+    sets = [c for c in fig.axes[0].collections
+            if isinstance(c, PathCollection) and len(c.get_offsets())]
+    verdict = next(c for c in sets if c.get_label() == "meets every limit drawn")
+    ring = next(c for c in sets if c.get_label() == plots.DOMAIN_RING["text"])
+    # both lots carry the same filled 'meets' marker: the verdict looks the same in or out
+    assert sorted(map(tuple, verdict.get_offsets())) == [(10.0, 1.0), (12.0, 0.0)]
+    assert all(face[3] > 0 and tuple(face) != (1.0, 1.0, 1.0, 1.0)
+               for face in verdict.get_facecolor())
+    # only the 'out' lot is ringed, by an unfilled dotted marker larger than the verdict's
+    assert [tuple(o) for o in ring.get_offsets()] == [(12.0, 0.0)]
+    assert len(ring.get_facecolor()) == 0 or ring.get_facecolor()[0][3] == 0
+    assert ring.get_sizes()[0] > verdict.get_sizes()[0]
+    assert ring.get_linestyle()[0][1] is not None  # dashed/dotted, never a solid edge
+    legend = _legend_texts(fig)
+    assert plots.DOMAIN_RING["text"] in legend
+    assert not any("open marker" in text for text in legend)
+
+
+def test_the_ring_follows_the_estimate_that_decides_not_the_published_one_a_lab_model_replaced():
+    long = pd.DataFrame({
+        "sample": ["A", "A", "B", "B"],
+        "property": "oxidation_stability_110C_h",
+        "method": ["park2008_bape", "fit:gp:descriptors"] * 2,
+        "in_domain": [False, True, True, False],
+    })
+    assert plots._in_domain(long, ["A", "B"], ["oxidation_stability_110C_h"]) == [True, False]
 
 
 def test_figures_drawn_side_by_side_give_the_same_pngs_as_drawn_here(monkeypatch):
