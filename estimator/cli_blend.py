@@ -176,7 +176,8 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
         from estimator.comparison import long_estimates
 
         long = long_estimates(profile, models=models)
-    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long)
+    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long,
+                                   climate_class=climate_class)
     table = (blending.blend_table(fame, fuel, grid, methods="all") if methods == "all"
              else blending.blend_wide(fame, fuel, grid))
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
@@ -217,17 +218,39 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     click.echo("\n" + footer)
 
 
-def _summary_text(table) -> str:
-    from estimator.report.tables import format_table
+#: Width the highest-level summary wraps its words at.
+_SUMMARY_WIDTH = 100
 
+
+def _summary_text(table) -> str:
+    """The highest levels, one block per FAME: each target and its level, with the words
+    beside the level wrapped under it."""
+    import textwrap
+
+    heads = [str(c) for c in table.columns[1:]]
+    width = max(len(h) for h in heads) if heads else 0
+    keep = ("EN 14214", "EN 590", "ASTM D6751", "ASTM D7467")  # never split across lines
+    lines = []
+    for _, row in table.iterrows():
+        lines.append(f"FAME {row['sample']}")
+        for head in heads:
+            text = str(row[head])
+            for name in keep:
+                text = text.replace(name, name.replace(" ", "\u00a0"))
+            lines += [line.replace("\u00a0", " ") for line in textwrap.wrap(
+                text, _SUMMARY_WIDTH, initial_indent=f"  {head.ljust(width)}  ",
+                subsequent_indent=" " * (width + 4), break_on_hyphens=False)]
     return (
         "Highest blend level (% v/v FAME) meeting each target; in brackets, the highest\n"
         "level with the stated error taken against the blend (the cautious answer).\n"
         "A 'none' or B0 names the limiting limit and whether the diesel alone misses it.\n"
-        "EN 590 admits only FAME that meets EN 14214.\n"
+        "EN 590 admits only FAME that meets EN 14214, ASTM D7467 only FAME that meets\n"
+        "ASTM D6751: a FAME that fails its standard, or cannot be judged on it, gets no\n"
+        "level there; words beside a level give what it still depends on. The B100 CFPP\n"
+        "is not counted: the blend's own CFPP is checked against the climate class.\n"
         "EN 590 allows at most B7; ASTM D7467 covers B6-B20 and sets no cold-flow limit\n"
         "(by agreement between buyer and seller), so its column says nothing about winter.\n\n"
-        + format_table(table, transpose=False)
+        + "\n".join(lines)
     )
 
 
