@@ -257,7 +257,7 @@ def _summary_text(table) -> str:
 def _blend_footer(fuel) -> str:
     from estimator.cautions import CAUTION_SHORT
 
-    return (f"diesel: {fuel.name} ({fuel.source}). Cloud point: the higher of the "
+    return (f"diesel: {fuel.name} ({fuel.origin}). Cloud point: the higher of the "
             "saturated-ester liquidus (ideal solubility) and the linear rule by volume; CFPP "
             "linear by volume; both with wide stated errors.\n" + CAUTION_SHORT)
 
@@ -278,6 +278,7 @@ _BLEND_ROWS = (
 def _print_blend(wide, fuel, fame) -> None:
     import pandas as pd
 
+    from estimator.report.labels import column_label
     from estimator.report.tables import format_table
 
     for sample in fame.samples:
@@ -294,9 +295,16 @@ def _print_blend(wide, fuel, fame) -> None:
                                                                     part[f"{prop}_error"])}})
         click.echo(f"FAME {sample} in diesel {fuel.name} (B = % FAME by volume)")
         click.echo(format_table(pd.DataFrame(rows), transpose=False))
-        flags = [f for f in part["flags"] if f]
-        if flags:
-            click.echo(f"  note: {flags[0]}")
+        i = fame.samples.index(sample)
+        outside = [column_label(p, unit=False) for p in fame.in_domain
+                   if not fame.in_domain[p][i]]
+        if len(outside) == 1:
+            click.echo(f"  note: the neat FAME's estimate of {outside[0]} lies outside its "
+                       "method's fitted range; blend values built on it deserve extra doubt")
+        elif outside:
+            names = f"{', '.join(outside[:-1])} and {outside[-1]}"
+            click.echo(f"  note: the neat FAME's estimates of {names} lie outside their "
+                       "methods' fitted ranges; blend values built on them deserve extra doubt")
         click.echo("")
 
 

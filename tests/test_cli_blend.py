@@ -380,3 +380,18 @@ def test_mix_with_o_prints_the_shares_then_what_was_written_and_quiet_silences(t
     assert f"wrote {out}" in result.stderr
     quiet = run(mix, LOTS, "--basis", "fatty-acid", "--margin", "0", "-o", out, "-q")
     assert quiet.exit_code == 0 and quiet.stdout == ""
+
+
+def test_blend_notes_name_properties_and_the_diesel_in_words():
+    # readers see words, not code: no machine column names or package file names
+    result = run(blend, LOTS, "--basis", "fatty-acid", "--diesel", WINTER, "--levels", "0,7",
+                 "--spec", "none", "--max-cfpp", "-20")
+    assert result.exit_code == 0, result.output
+    notes = [line for line in result.output.splitlines() if line.startswith("  note:")]
+    assert notes and not any("_" in line for line in notes)
+    assert any("estimate of CFPP lies outside its method's fitted range" in line
+               for line in notes)
+    assert "(from diesel_winter.json)" in result.output
+    builtin = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter", "--levels", "0,7")
+    assert "diesel: en590-winter (built-in typical EN 590 winter diesel)" in builtin.output
+    assert "diesels.csv" not in builtin.output

@@ -63,7 +63,7 @@ def blend_sections(
 
     sections = []
     intro = paragraph(
-        f"FAME blended into {diesel.name} ({diesel.source}). B = % FAME by volume. "
+        f"FAME blended into {diesel.name} ({diesel.origin}). B = % FAME by volume. "
         "Values are estimates with their stated errors. Each cell gives the highest blend "
         "level meeting the target (the root of the continuous blend curve) and, in "
         "brackets, the level with the stated error taken against the blend; a "
