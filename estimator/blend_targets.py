@@ -233,9 +233,18 @@ def _fame_words(status: FameConformity, name: str) -> tuple[bool, bool, list[str
         return True, True, [f"FAME not checked against the FAME standard {name} requires"]
     counted = [(p, v) for p, v in status.limits if p not in _NOT_COUNTED]
     blocking = [p for p, v in counted if p not in _FIXES and v in ("fails", *_UNJUDGED)]
-    fails = status.properties("fails")
-    outside, missing = status.properties(_UNJUDGED[0]), status.properties(_UNJUDGED[1])
+    not_counted = []
+    for p, v in status.limits:
+        if p in _NOT_COUNTED:
+            verdict = {"fails": "fails", "too close to call": "too close to call on"}.get(
+                v, "not judged on")
+            not_counted.append(f"B100 {PROPERTY_LABELS.get(p, p)} {verdict} {std} (not "
+                               f"counted: the blend's {PROPERTY_LABELS.get(p, p)} is checked "
+                               "instead)")
     if blocking:
+        fails = [p for p, v in counted if v == "fails"]
+        outside = [p for p, v in counted if v == _UNJUDGED[0]]
+        missing = [p for p, v in counted if v == _UNJUDGED[1]]
         words = []
         if fails:
             words.append(f"FAME fails {std} ({labels(fails)})")
@@ -244,7 +253,7 @@ def _fame_words(status: FameConformity, name: str) -> tuple[bool, bool, list[str
                 (outside, "outside the fitted range of the method"),
                 (missing, "not estimated")) if props]
             words.append(f"FAME not judged on {std} ({'; '.join(why)})")
-        return True, True, words
+        return True, True, words + not_counted
     words = []
     for p, v in counted:
         if p in _FIXES and v == "fails":
@@ -255,13 +264,7 @@ def _fame_words(status: FameConformity, name: str) -> tuple[bool, bool, list[str
     close = [p for p, v in counted if v == "too close to call"]
     if close:
         words.append(f"{labels(close)} too close to call on {std}")
-    for p, v in status.limits:
-        if p in _NOT_COUNTED:
-            verdict = {"fails": "fails", "too close to call": "too close to call on"}.get(
-                v, "not judged on")
-            words.append(f"B100 {PROPERTY_LABELS.get(p, p)} {verdict} {std} (not counted: "
-                         f"the blend's {PROPERTY_LABELS.get(p, p)} is checked instead)")
-    return False, bool(close), words
+    return False, bool(close), words + not_counted
 
 
 def _group_row(sample: str, group: str, members: list,

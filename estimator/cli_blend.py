@@ -22,7 +22,7 @@ from estimator.cli_compare import model_line, model_option, quiet_option
 from estimator.cliutil import CONTEXT, ReportingCommand, emit, input_options, load_inputs
 from estimator.errors import UsageError
 
-__all__ = ["INFEASIBLE_EXIT_CODE", "blend", "mix"]
+__all__ = ["INFEASIBLE_EXIT_CODE", "blend", "mix", "summary_blocks"]
 
 #: Exit status of ``mix`` when no mix of the lots meets every limit.
 INFEASIBLE_EXIT_CODE = 1
@@ -222,9 +222,9 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
 _SUMMARY_WIDTH = 100
 
 
-def _summary_text(table) -> str:
-    """The highest levels, one block per FAME: each target and its level, with the words
-    beside the level wrapped under it."""
+def summary_blocks(table) -> str:
+    """The highest levels of :func:`estimator.blend_targets.summary_table`, one block per
+    FAME: each target and its level, with the words beside the level wrapped under it."""
     import textwrap
 
     heads = [str(c) for c in table.columns[1:]]
@@ -240,6 +240,10 @@ def _summary_text(table) -> str:
             lines += [line.replace("\u00a0", " ") for line in textwrap.wrap(
                 text, _SUMMARY_WIDTH, initial_indent=f"  {head.ljust(width)}  ",
                 subsequent_indent=" " * (width + 4), break_on_hyphens=False)]
+    return "\n".join(lines)
+
+
+def _summary_text(table) -> str:
     return (
         "Highest blend level (% v/v FAME) meeting each target; in brackets, the highest\n"
         "level with the stated error taken against the blend (the cautious answer).\n"
@@ -250,7 +254,7 @@ def _summary_text(table) -> str:
         "is not counted: the blend's own CFPP is checked against the climate class.\n"
         "EN 590 allows at most B7; ASTM D7467 covers B6-B20 and sets no cold-flow limit\n"
         "(by agreement between buyer and seller), so its column says nothing about winter.\n\n"
-        + "\n".join(lines)
+        + summary_blocks(table)
     )
 
 
