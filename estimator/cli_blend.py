@@ -232,10 +232,11 @@ def summary_blocks(table) -> str:
     keep = ("EN 14214", "EN 590", "ASTM D6751", "ASTM D7467")  # never split across lines
     lines = []
     for _, row in table.iterrows():
+        lines += [""] if lines else []
         lines.append(f"FAME {row['sample']}")
         for head in heads:
             text = str(row[head])
-            for name in keep:
+            for name in (*keep, "<= ", ">= "):
                 text = text.replace(name, name.replace(" ", "\u00a0"))
             lines += [line.replace("\u00a0", " ") for line in textwrap.wrap(
                 text, _SUMMARY_WIDTH, initial_indent=f"  {head.ljust(width)}  ",
