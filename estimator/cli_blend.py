@@ -147,8 +147,10 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     wax, CFPP linearly by volume with a wide error. The highest level meeting a
     target is found by bisection on the continuous blend curve, also with the
     stated error taken against the blend. A level that is none or B0 says why
-    (the limiting limit, and whether the diesel alone misses it); EN 590 admits only
-    FAME that meets EN 14214. The diesel file needs only the properties the
+    (the limiting limit, and whether the diesel alone misses it). EN 590 admits only
+    FAME that meets EN 14214, ASTM D7467 only FAME that meets ASTM D6751: a FAME
+    failing its standard, or not judged on it, gets no level there, and words beside
+    a level say what it still depends on. The diesel file needs only the properties the
     question uses (the targets' properties, and density for mass fractions); the
     others are left empty in the table.
 

@@ -67,7 +67,10 @@ def blend_sections(
         "Values are estimates with their stated errors. Each cell gives the highest blend "
         "level meeting the target (the root of the continuous blend curve) and, in "
         "brackets, the level with the stated error taken against the blend; a "
-        "specification's level is capped at the FAME content it allows. " + CAUTION_SHORT
+        "specification's level is capped at the FAME content it allows. EN 590 admits only "
+        "FAME that meets EN 14214, ASTM D7467 only FAME that meets ASTM D6751: a FAME that "
+        "fails its standard, or cannot be judged on it, gets no level there, and words beside "
+        "a level say what it still depends on. " + CAUTION_SHORT
     )
     body = intro
     if highest is not None and len(highest):
@@ -128,6 +131,8 @@ def levels_matrix(highest: pd.DataFrame) -> pd.DataFrame:
 
     table = summary_table(highest)
     table.columns = [for_readers(c) for c in table.columns]
+    for col in table.columns[1:]:
+        table[col] = [str(v).replace("<=", "≤").replace(">=", "≥") for v in table[col]]
     return table
 
 
