@@ -115,7 +115,9 @@ def predict(inputs, oils, basis, sum_tolerance, reference, sample_sheet, interna
         if output:
             emit(result.long, output)
         else:
-            _print_columns(_long_for_terminal(result.long), footer=_methods_footer())
+            # one line per estimate, the method's name last (never in a block of its own)
+            _print_columns(_long_for_terminal(result.long), footer=_methods_footer(),
+                           last_runs_on=True)
         return
     footer = _methods_footer()
     if models:
@@ -183,7 +185,7 @@ def _count_lines(paths) -> int:
     return lines
 
 
-def _print_columns(table, *, footer: str = "") -> None:
+def _print_columns(table, *, footer: str = "", last_runs_on: bool = False) -> None:
     """One row per sample, wrapped to the terminal; flags and notes listed beneath."""
     import shutil
 
@@ -192,7 +194,8 @@ def _print_columns(table, *, footer: str = "") -> None:
 
     width = max(60, shutil.get_terminal_size((100, 24)).columns)
     text_cols = [c for c in ("flags", "notes") if c in table.columns]
-    click.echo(format_columns(table.drop(columns=text_cols), width=width))
+    click.echo(format_columns(table.drop(columns=text_cols), width=width,
+                              last_runs_on=last_runs_on))
     echo_text_columns(table, text_cols, footer=footer, words=for_readers)
 
 
@@ -227,16 +230,17 @@ def _long_for_terminal(long):
 
     out = long[["sample"]].astype(str).copy()
     out["property"] = long["property"].map(lambda p: column_label(p, unit=False))
-    out["method"] = long["method"].map(method_name)
     out["estimate"] = [f"{plus_minus(v, e, missing='-')} {pretty_unit(str(u))}".rstrip()
                        for v, e, u in zip(long["value"], long["error"], long["unit"])]
     out["inside fitted domain"] = long["in_domain"].map({True: "yes", False: "NO"})
+    out["method"] = long["method"].map(method_name)
     return out
 
 
 def _methods_footer() -> str:
-    return ("Defaults and citations: 'fame-estimator methods'. Estimates are not "
-            "certification; see the README cautions.")
+    from estimator.cautions import CAUTION_SHORT
+
+    return f"Defaults and citations: 'fame-estimator methods'. {CAUTION_SHORT}"
 
 
 @cli.command(cls=ReportingCommand, context_settings=CONTEXT)

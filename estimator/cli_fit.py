@@ -100,17 +100,21 @@ def fit(lab_file, properties, basis, sum_tolerance, seed, tie_tolerance, no_repo
 
     table = pd.concat([f.score_table() for f in fits], ignore_index=True)
     shown = table[["property", "candidate", "cv_rmse", "cv_mae", "cv_bias", "cv_r2", "chosen"]]
+    from estimator.report.labels import column_label
+
     shown = shown.assign(candidate=[candidate_words(c, p) for c, p in
-                                    zip(shown["candidate"], shown["property"])])
+                                    zip(shown["candidate"], shown["property"])],
+                         property=[column_label(p, unit=False) for p in shown["property"]])
     shown = shown.rename(columns={"candidate": "model"})
+
     if not output:
         for f in fits:
-            click.echo(f"{f.property} [{f.unit}]: {len(f.measured)} samples, "
+            click.echo(f"{column_label(f.property)}: {len(f.measured)} samples, "
                        f"{f.scheme.name} (seed {seed})")
         click.echo(format_table(shown, transpose=False))
         click.echo("")
     for f in fits:
-        click.echo(f"{f.property}: {f.statement}")
+        click.echo(f"{column_label(f.property, unit=False)}: {f.statement}")
         for note in f.skipped:
             click.echo(f"  not evaluated: {note}")
         for note in f.notes:

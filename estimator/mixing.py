@@ -401,6 +401,9 @@ def _lot_inputs(profile, available_column, demand_t, pretreat, costs=None):
             notes.append(f"availability ({column}) applies only with a demand (--demand-t)")
         elif np.isinf(avail).any():
             notes.append(f"lots with a blank {column} are taken as unlimited")
+    elif demand_t is not None:
+        notes.append("no availability column (available_t, or name one with --available): "
+                     "every lot is taken as unlimited")
     return valued, cost, yields, avail, notes
 
 

@@ -48,12 +48,13 @@ def test_fit_prints_the_scores_the_choice_and_the_caution():
     result = run("fit", str(LAB), "--property", "cfpp_C")
     assert result.exit_code == 0, result.output
     out = result.output
-    assert "cfpp_C [°C]: 25 samples, leave-one-out (seed 0)" in out  # 25 CFPP cells filled
+    assert "CFPP [°C]: 25 samples, leave-one-out (seed 0)" in out  # 25 CFPP cells filled
     # readers see author-year names, not method keys
     assert "Ramos et al. 2009, recalibrated" in out and "Gaussian process on descriptors" in out
     assert "recalibrated:ramos2009" not in out and "ramos2009" not in out
     assert "mean-only baseline" in out
-    assert "cfpp_C: Chosen: Ramos et al. 2009, recalibrated, CV RMSE 1.44" in out
+    assert "CFPP: Chosen: Ramos et al. 2009, recalibrated, CV RMSE 1.44" in out
+    assert "cfpp_C" not in out  # the property in words, in the table too
     assert "band ± 1.44 (one standard uncertainty: the CV RMSE)" in out
     assert CAUTION_SHORT in out
     assert "cross-validating" not in out  # no progress bar when output is not a terminal

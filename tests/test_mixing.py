@@ -235,6 +235,14 @@ def test_demand_beyond_the_lots_supply_is_reported():
     assert result.message.startswith("no mix can supply 1000 t of fuel: the lots make at most ")
 
 
+def test_a_demand_without_an_availability_column_says_every_lot_is_unlimited():
+    # a missing column must not silently change the answer: the buyer is told
+    result = m.least_cost_mix(_lots(*THREE), m.mix_constraints("en14214"), demand_t=1000.0)
+    assert any("no availability column" in n and "unlimited" in n for n in result.notes)
+    without_demand = m.least_cost_mix(_lots(*THREE), m.mix_constraints("en14214"))
+    assert not any("availability" in n for n in without_demand.notes)
+
+
 def test_lot_without_a_price_is_refused_with_its_row():
     base = Profile.from_oils(["rapeseed", "palm"])
     meta = pd.DataFrame({"price_per_t": [900.0, np.nan]}, index=base.composition.index)

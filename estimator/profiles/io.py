@@ -124,7 +124,7 @@ def read_profile(
     if species_col is not None and value_col is not None:
         table, rows = _long_to_wide(table, species_col, value_col, label, rows)
     profile = _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns, fractions)
-    return replace(profile, file_notes=(note,)) if note else profile
+    return replace(profile, file_notes=(note, *profile.file_notes)) if note else profile
 
 
 def input_size_limit_mb(kind: str) -> float:
@@ -295,8 +295,7 @@ def _read_text(path: Path, find_header: bool = True) -> RawTable:
     except UnicodeDecodeError:
         raise _decode_error(path, encoding) from None
     except (pd.errors.ParserError, ValueError, OverflowError) as exc:
-        msg = str(exc).strip().splitlines()[-1] if str(exc).strip() else type(exc).__name__
-        raise InputFileError(f"{label}: cannot parse the table ({msg})") from None
+        raise _parse_error(label, exc, sep) from None
     if frame.empty:
         raise InputFileError(f"{label}: the file has a header but no data rows")
     first = header_index + 2
@@ -561,11 +560,14 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns,
         raise InputFileError(
             f"{label}: no species columns found (expected headers such as C16:0, C18:1, oleic)"
         )
+    guessed = ()
     if sample_col is None:
         text_cols = [c for c in meta_cols if not pd.api.types.is_numeric_dtype(table[c])]
         sample_col = text_cols[0] if text_cols else None
         if sample_col is not None:
             meta_cols.remove(sample_col)
+            guessed = (f"{label}: no sample column ({', '.join(SAMPLE_COLUMNS[:5])} ...); "
+                       f"the sample ids are taken from column {sample_col!r}",)
     if sample_col is not None:
         ids = _sample_ids(table[sample_col])
         blank = ids == ""
@@ -596,10 +598,28 @@ def _wide_to_profile(table, rows, label, basis, sum_tolerance, extra_columns,
         meta[col] = _maybe_numeric(meta[col])
     composition = pd.DataFrame(comp, index=ids)
     meta.index = ids
-    return Profile.from_frame(
+    profile = Profile.from_frame(
         composition, basis=basis, sum_tolerance=sum_tolerance, other=other, metadata=meta,
         source=label, rows=rows,
     )
+    return replace(profile, file_notes=guessed) if guessed else profile
+
+
+_CELL_COUNT = re.compile(r"Expected (\d+) fields in line (\d+), saw (\d+)")
+
+
+def _parse_error(label: str, exc: Exception, sep: str) -> InputFileError:
+    """The parser's complaint in the reader's words: which row, how many cells, a likely cause."""
+    text = str(exc).strip()
+    counted = _CELL_COUNT.search(text)
+    if counted:
+        expected, line, saw = counted.groups()
+        hint = ("; a decimal comma in a number or a comma inside unquoted text splits a cell "
+                "in two: quote the text, or separate the cells with ';'") if sep == "," else ""
+        return InputFileError(f"{label}: row {line} has {saw} cells where the header has "
+                              f"{expected}{hint}")
+    msg = text.splitlines()[-1] if text else type(exc).__name__
+    return InputFileError(f"{label}: cannot parse the table ({msg})")
 
 
 def _sample_ids(column: pd.Series) -> pd.Series:
@@ -686,8 +706,7 @@ def read_profile_chunks(
     except UnicodeDecodeError:
         raise InputFileError(f"{label}: not a UTF-8 text file (near row {first_row})") from None
     except pd.errors.ParserError as exc:
-        msg = str(exc).strip().splitlines()[-1]
-        raise InputFileError(f"{label}: cannot parse the table ({msg})") from None
+        raise _parse_error(label, exc, options["sep"]) from None
 
 
 def _chunk_options(path: Path) -> dict | None:

@@ -150,8 +150,11 @@ def _method_error(m: Method, base: str, values, inside, w, desc, t, spread_of):
         fallback = np.full(len(values), np.nan)
         if len(methods_for(base)) >= 2:
             fallback = spread_of(np.arange(len(values)))
-        elif m.error_fallback is not None:
-            fallback = np.asarray(m.error_fallback(values, {base: fallback}), dtype=float)
+        if m.error_fallback is not None:
+            # the method's own stated error counts too: two methods on one scale can
+            # agree by construction, and their small spread is no evidence
+            own = np.asarray(m.error_fallback(values, {base: fallback}), dtype=float)
+            fallback = np.fmax(fallback, own)
         err = np.fmax(err, fallback)
     out = ~inside
     if out.any():

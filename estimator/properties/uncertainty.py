@@ -627,9 +627,9 @@ def computed_band(prop: str, name: str) -> Band:
             parts.append(f"the {_WORDS.get(other, other)} band x {factor:.2f}")
             candidates.append(b.absolute * factor)
             borrowed = True
-    fallback = "" if borrowed else (
-        "the std of the property's methods" if len(methods_for(prop)) >= 2
-        else "the method's own stated fallback error" if m.error_fallback is not None else "")
+    fallback = "" if borrowed else ", ".join(
+        [*(["the std of the property's methods"] if len(methods_for(prop)) >= 2 else []),
+         *(["the method's own stated fallback error"] if m.error_fallback is not None else [])])
     if fallback:
         parts.append(fallback)
     if not candidates and relative is None:

@@ -18,9 +18,11 @@ over the repeats:
 The choice: the lowest cross-validated RMSE wins, except that any candidate within
 :data:`TIE_TOLERANCE` (2 %) of the best RMSE ties with it, and a tie goes to the
 simpler one (the complexity order of :mod:`estimator.refit.candidates`: published,
-recalibrated, PLS, ridge, Gaussian process). The mean-only baseline is scored the
-same way (the mean of each fold's training samples, scored on its held-out ones) but
-never chosen.
+recalibrated, PLS, ridge, Gaussian process). A fitted model replaces the best
+published method only if it *beats* it (below); otherwise that published method is
+kept, so a model file never puts a refit that is no better into the decisions. The
+mean-only baseline is scored the same way (the mean of each fold's training samples,
+scored on its held-out ones) but never chosen.
 
 **What the fit says.** A fitted model is said to *beat* a reference only when its CV
 RMSE is at least :data:`BEAT_MARGIN` (10 %) below the reference's; the statement
@@ -438,12 +440,17 @@ def fit_property(
     with single_threaded_blas():
         results, skipped, matrices = _evaluate(candidates, wt, y, estimates, samples, splits,
                                                progress)
-        chosen = choose(results, tolerance)
+        lowest = choose(results, tolerance)
+        published = [r for r in results if r.candidate.kind == "published"]
+        best_pub = min(published, key=lambda r: r.rmse) if published else None
+        chosen = lowest
+        if (best_pub is not None and lowest.candidate.kind != "published"
+                and _gain(lowest, best_pub) < BEAT_MARGIN):
+            chosen = best_pub  # a refit that does not beat it stays out of the decisions
         params, notes = chosen.candidate.fit(matrices[chosen.candidate.name], y, seed=seed)
     baseline = results[0]
-    published = [r for r in results if r.candidate.kind == "published"]
-    best_pub = min(published, key=lambda r: r.rmse) if published else None
-    statement = _statement(chosen, best_pub, baseline, tolerance, n, property_name)
+    statement = _statement(chosen, best_pub, baseline, tolerance, n, property_name,
+                           runner_up=lowest if lowest is not chosen else None)
     fit_notes = gp_cost_note(n) if any(r.candidate.kind == "gp" for r in results) else ""
     domain = TrainingDomain.from_training(wt)
     model = FittedModel(
@@ -601,8 +608,13 @@ def _statement(
     tolerance: float,
     n: int,
     property_name: str,
+    runner_up: CVResult | None = None,
 ) -> str:
-    """What the fit found, in words: the choice, its band, and whom it beats (or not)."""
+    """What the fit found, in words: the choice, its band, and whom it beats (or not).
+
+    ``runner_up`` is the fitted model with the lowest CV RMSE when it was not chosen
+    because it does not beat the best published method.
+    """
     from estimator.refit.wording import candidate_words, method_words
 
     margin = _pct(BEAT_MARGIN)
@@ -625,8 +637,12 @@ def _statement(
     pub_name = method_words(property_name, best_pub.candidate.method)
     pub = f"the best published method, {pub_name} (CV RMSE {best_pub.rmse:.3g})"
     if kind == "published":
+        closest = ""
+        if runner_up is not None:
+            closest = (f" (the closest, {candidate_words(runner_up.candidate.name, property_name)}"
+                       f", CV RMSE {runner_up.rmse:.3g}, is within {margin} of it)")
         return (f"Kept as is: {head}. No model fitted on these {n} samples beats this best "
-                f"published method; {vs_base} ({rule}).")
+                f"published method{closest}; {vs_base} ({rule}).")
     gain_pub = _gain(chosen, best_pub)
     if gain_pub >= BEAT_MARGIN and gain_base >= BEAT_MARGIN:
         return (f"Chosen: {head}. It beats {pub} by {_pct(gain_pub)} and {base} by "

@@ -82,12 +82,15 @@ def plus_minus(values: pd.Series, errors: pd.Series, digits: int = 4) -> pd.Seri
     return pd.Series(out, index=values.index, dtype=object)
 
 
-def format_columns(frame: pd.DataFrame, *, width: int = 100, digits: int = 4) -> str:
+def format_columns(frame: pd.DataFrame, *, width: int = 100, digits: int = 4,
+                   last_runs_on: bool = False) -> str:
     """One row per record, columns side by side, wrapped into blocks to fit ``width``.
 
     Long headers wrap onto several lines at word boundaries; when the columns do not
     fit the width, they continue in further blocks below, each repeating the first
-    (identifying) column. Numbers are right-aligned.
+    (identifying) column. Numbers are right-aligned. With ``last_runs_on`` the last
+    column (a long text such as a method's name) always ends the first block's lines,
+    which may then run past ``width``, so that a record is never split from it.
     """
     import textwrap
 
@@ -108,6 +111,9 @@ def format_columns(frame: pd.DataFrame, *, width: int = 100, digits: int = 4) ->
         heads.append([h.replace("\u00a0", " ") for h in textwrap.wrap(glued, w)] or [""])
     numeric = [all(_looks_numeric(v) for v in cells[c]) for c in cols]
     first, rest = 0, list(range(1, len(cols)))
+    tail = [rest.pop()] if last_runs_on and len(rest) > 1 else []
+    for i in tail:  # its rule only as long as its header: its cells run on unpadded
+        widths[i] = max(len(h) for h in heads[i])
     blocks: list[list[int]] = []
     while rest:
         used, block = widths[first], []
@@ -117,6 +123,7 @@ def format_columns(frame: pd.DataFrame, *, width: int = 100, digits: int = 4) ->
         blocks.append(block)
     if not blocks:
         blocks = [[]]
+    blocks[0] += tail
     out = []
     for block in blocks:
         idx = [first, *block]

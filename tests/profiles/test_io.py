@@ -190,3 +190,31 @@ def test_json_null_is_an_empty_cell_but_true_is_refused(tmp_path):
     bad = [{"sample": "A", "C16:0": False, "C18:1": 100}]
     with pytest.raises(EstimatorError, match=r"row 1, column 'C16:0': False is not a number"):
         read_profile(write(tmp_path, "b.json", json.dumps(bad)))
+
+
+def test_ids_taken_from_a_text_column_when_no_sample_column_is_said_in_a_note(tmp_path):
+    # a missing 'lot' column must not silently turn supplier names into lot ids
+    path = tmp_path / "offers.csv"
+    path.write_text("supplier,C16:0,C18:1\nNorthfield Oils,20,80\nBay Renderers,30,70\n")
+    profile = read_profile(path)
+    assert list(profile.samples) == ["Northfield Oils", "Bay Renderers"]
+    assert any("no sample column" in n and "'supplier'" in n for n in profile.file_notes)
+    named = tmp_path / "named.csv"
+    named.write_text("lot,supplier,C16:0,C18:1\nL1,Northfield Oils,20,80\n")
+    assert not read_profile(named).file_notes
+
+
+@pytest.mark.parametrize("chunked", [False, True])
+def test_a_row_with_one_cell_too_many_names_the_row_and_the_likely_decimal_comma(tmp_path,
+                                                                                  chunked):
+    from estimator.profiles.io import read_profile_chunks
+
+    path = tmp_path / "lots.csv"
+    path.write_text("sample,C16:0,C18:1\nL1,20,80\nL2,20,5,75\n")  # "20,5" meant 20.5
+    with pytest.raises(EstimatorError) as err:
+        if chunked:
+            list(read_profile_chunks(path, min_bytes=0, chunk_rows=1))
+        else:
+            read_profile(path)
+    assert str(err.value).startswith("lots.csv: row 3 has 4 cells where the header has 3; "
+                                     "a decimal comma in a number")

@@ -167,21 +167,39 @@ def test_a_known_linear_law_is_recovered_within_the_noise():
 
 
 def test_when_the_lab_follows_a_published_law_the_published_method_is_kept():
-    # Synthetic: y = Bamgboye & Hansen 2008 + N(0, 0.3); nothing fitted can beat it.
+    # Synthetic: y = Bamgboye & Hansen 2008 + N(0, 0.3); nothing fitted can beat it by the
+    # margin, so the published method goes into the model file even where a refit scores
+    # a little lower (the fit would otherwise say "treat it as no better" and be used)
     w = compositions(24, seed=5)
     y = bamgboye2008(w) + np.random.default_rng(3).normal(0, 0.3, 24)
     fit = fit_property(lab(w, cetane_number=y), "cetane_number")
-    assert fit.chosen.candidate.name in ("published:bamgboye2008",
-                                         "recalibrated:bamgboye2008")
-    if fit.model.kind == "published":
-        assert fit.statement.startswith("Kept as is: Bamgboye & Hansen 2008, CV RMSE ")
-        assert "No model fitted on these 24 samples beats this best published method" in \
-            fit.statement
-    else:  # a recalibration may come out lowest, but is not said to beat the published one
-        assert "but it does not beat the best published method, Bamgboye & Hansen 2008" in \
-            fit.statement
-    assert fit.model.kind in ("published", "recalibrated")
-    assert fit.model.method == "bamgboye2008"
+    assert fit.chosen.candidate.name == "published:bamgboye2008"
+    assert fit.model.kind == "published" and fit.model.method == "bamgboye2008"
+    assert fit.statement.startswith("Kept as is: Bamgboye & Hansen 2008, CV RMSE ")
+    assert "No model fitted on these 24 samples beats this best published method" in \
+        fit.statement
+    lowest = min((r for r in fit.results if r.candidate.kind != "mean"),
+                 key=lambda r: r.rmse)
+    if lowest is not fit.chosen:  # a refit scored lower, by less than the margin
+        assert lowest.rmse > 0.9 * fit.chosen.rmse
+        assert "(the closest, " in fit.statement and "is within 10 % of it)" in fit.statement
+
+
+def test_a_refit_within_the_margin_of_the_best_published_method_stays_out_of_the_model():
+    # Synthetic: y = Bamgboye & Hansen 2008 + 0.6 + N(0, 0.8): the recalibration absorbs
+    # the offset and scores lower than the published method (0.91 against 0.98), but not
+    # by the 10 % that 'beats' needs, so the published method is what the model applies
+    w = compositions(30, seed=8)
+    y = bamgboye2008(w) + 0.6 + np.random.default_rng(8).normal(0, 0.8, 30)
+    fit = fit_property(lab(w, cetane_number=y), "cetane_number",
+                       kinds=("published", "recalibrated"))
+    by_name = {r.candidate.name: r for r in fit.results}
+    recal, pub = by_name["recalibrated:bamgboye2008"], by_name["published:bamgboye2008"]
+    assert recal.rmse < pub.rmse < recal.rmse / 0.9  # the situation this test is about
+    assert fit.model.kind == "published" and fit.chosen is pub
+    assert fit.model.band_sd == pytest.approx(pub.rmse)
+    assert fit.statement.startswith("Kept as is: Bamgboye & Hansen 2008, CV RMSE ")
+    assert "(the closest, Bamgboye & Hansen 2008, recalibrated, CV RMSE " in fit.statement
 
 
 def test_a_lab_offset_is_absorbed_by_recalibration():
