@@ -24,6 +24,7 @@ from estimator.blending import (
     BLEND_PROPERTIES,
     Diesel,
     FameComponent,
+    FameConformity,
     blend_arrays,
 )
 from estimator.errors import UnknownNameError, UsageError
@@ -31,6 +32,7 @@ from estimator.errors import UnknownNameError, UsageError
 __all__ = [
     "BLEND_SPECS",
     "BLEND_SPEC_FAME_CONTENT",
+    "BLEND_SPEC_FAME_STANDARD",
     "Target",
     "blend_targets",
     "highest_levels",
@@ -98,9 +100,14 @@ def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target
     curve (default rule), all samples together. ``highest_level_with_error_pct_v``
     does the same with the stated error taken against the blend. A specification
     group's level is the lowest of its targets, capped at the FAME content that
-    specification allows; NaN when no level meets it. EN 590 admits only FAME that
-    meets EN 14214 (EN 590:2022 clause on FAME content, standards.md 3.3): a FAME
-    failing a limit no treatment fixes gets no EN 590 level.
+    specification allows; NaN when no level meets it. A blend specification admits
+    only FAME that meets its FAME standard (:data:`BLEND_SPEC_FAME_STANDARD`: EN 590
+    -> EN 14214, ASTM D7467 -> ASTM D6751): a FAME that fails a limit of it no
+    treatment fixes, or cannot be judged on one (not estimated, outside the method's
+    range, or not checked), gets no level for that specification. A level given on a
+    condition says so in ``reason``: a failure an antioxidant dose fixes, a limit too
+    close to call (the cautious level is then NaN), a B100 CFPP failure not counted
+    because the blend's own CFPP is checked.
 
     Every row says why in ``reason`` when its level is none or B0: the limiting
     target, and whether the diesel alone already misses it (``diesel_misses``).
@@ -153,7 +160,6 @@ def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target
                 part = found[:len(root)]
                 found = found[len(root):]
                 results[k, with_error][root] = part
-    failures = fame.en14214_failures or ("",) * len(fame.samples)
     # per target once: the diesel's value, and the columns as Python floats and strings
     per_target = []
     for k, t in enumerate(targets):
@@ -180,8 +186,7 @@ def highest_levels(fame: FameComponent, diesel: Diesel, targets: Sequence[Target
             groups.setdefault(t.group, []).append((t, row))
         for group, members in groups.items():
             if group != "target":
-                rows_out.append(_group_row(sample, group, members,
-                                           failures[i] if group == "en590" else ""))
+                rows_out.append(_group_row(sample, group, members, _standing(fame, group, i)))
     return pd.DataFrame(rows_out)
 
 
@@ -196,7 +201,74 @@ def _reason(t: Target, level: float, diesel_misses: bool, diesel_value: float, h
     return f"{t.label} missed from the first FAME added"
 
 
-def _group_row(sample: str, group: str, members: list, fame_failures: str = "") -> dict:
+def _standing(fame: FameComponent, group: str, i: int) -> FameConformity | None:
+    """Sample ``i``'s standing against the FAME standard of blend spec ``group`` (None:
+    the specification names no FAME standard; an empty standard key: not checked)."""
+    standard = BLEND_SPEC_FAME_STANDARD.get(group, ("", ""))[0]
+    if not standard:
+        return None
+    checked = fame.conformity.get(standard, ())
+    return checked[i] if i < len(checked) else FameConformity("")
+
+
+#: Properties a treatment fixes in the neat FAME (words of the condition).
+_FIXES = {"oxidation_stability_110C_h": "an antioxidant dose"}
+#: B100 limits not counted for a blend: the blend's own limit of that property replaces
+#: them (EN 590 sets the blend's CFPP per climate class).
+_NOT_COUNTED = ("cfpp_C",)
+_UNJUDGED = ("outside method range", "not estimated")
+
+
+def _fame_words(status: FameConformity, name: str) -> tuple[bool, bool, list[str]]:
+    """Whether the FAME standard withholds the level, whether the cautious level goes,
+    and the words beside the level."""
+    from estimator.specs import PROPERTY_LABELS
+
+    std = _SPEC_NAMES.get(status.standard, status.standard)
+
+    def labels(props):
+        return ", ".join(PROPERTY_LABELS.get(p, p) for p in props)
+
+    if not status.standard:
+        return True, True, [f"FAME not checked against the FAME standard {name} requires"]
+    counted = [(p, v) for p, v in status.limits if p not in _NOT_COUNTED]
+    blocking = [p for p, v in counted if p not in _FIXES and v in ("fails", *_UNJUDGED)]
+    not_counted = []
+    for p, v in status.limits:
+        if p in _NOT_COUNTED:
+            verdict = {"fails": "fails", "too close to call": "too close to call on"}.get(
+                v, "not judged on")
+            not_counted.append(f"B100 {PROPERTY_LABELS.get(p, p)} {verdict} {std} (not "
+                               f"counted: the blend's {PROPERTY_LABELS.get(p, p)} is checked "
+                               "instead)")
+    if blocking:
+        fails = [p for p, v in counted if v == "fails"]
+        outside = [p for p, v in counted if v == _UNJUDGED[0]]
+        missing = [p for p, v in counted if v == _UNJUDGED[1]]
+        words = []
+        if fails:
+            words.append(f"FAME fails {std} ({labels(fails)})")
+        if outside or missing:
+            why = [f"{labels(props)}: {what}" for props, what in (
+                (outside, "outside the fitted range of the method"),
+                (missing, "not estimated")) if props]
+            words.append(f"FAME not judged on {std} ({'; '.join(why)})")
+        return True, True, words + not_counted
+    words = []
+    for p, v in counted:
+        if p in _FIXES and v == "fails":
+            words.append(f"only with {_FIXES[p]} ({PROPERTY_LABELS.get(p, p)} fails {std})")
+        elif p in _FIXES and v in _UNJUDGED:
+            words.append(f"only after a laboratory test or {_FIXES[p]} "
+                         f"({PROPERTY_LABELS.get(p, p)} not judged on {std})")
+    close = [p for p, v in counted if v == "too close to call"]
+    if close:
+        words.append(f"{labels(close)} too close to call on {std}")
+    return False, bool(close), words + not_counted
+
+
+def _group_row(sample: str, group: str, members: list,
+               status: FameConformity | None = None) -> dict:
     t0 = members[0][0]
     cap, floor = t0.max_level_pct_v, t0.min_level_pct_v
 
@@ -217,11 +289,13 @@ def _group_row(sample: str, group: str, members: list, fame_failures: str = "") 
     limiting = [r["target"] for r in limiting_rows]
     diesel_misses = any(r["diesel_misses"] for r in limiting_rows)
     name = _SPEC_NAMES.get(group, group)
-    if fame_failures:
+    withheld, no_cautious, fame_words = (False, False, []) if status is None else \
+        _fame_words(status, name)
+    if withheld:
         lvl = lvl_e = np.nan
-        how = (f"FAME fails EN 14214 ({fame_failures}); {name} admits only FAME meeting "
-               "EN 14214")
-        reason = f"FAME fails EN 14214 ({fame_failures})"
+        std = _SPEC_NAMES.get(status.standard, status.standard) or "its FAME standard"
+        reason = "; ".join(fame_words)
+        how = f"{reason}; {name} admits only FAME meeting {std}"
     elif math.isnan(lvl):
         how = f"no level from B{floor:g} to B{cap:g} meets {', '.join(limiting)}"
         reason = "; ".join(r["reason"] for r in limiting_rows if r["reason"]) or (
@@ -233,12 +307,18 @@ def _group_row(sample: str, group: str, members: list, fame_failures: str = "") 
         how = f"limited by {', '.join(limiting)}"
         reason = ("; ".join(r["reason"] for r in limiting_rows if r["reason"])
                   if lvl < 0.05 else "")
+    if not withheld and fame_words:
+        if no_cautious:
+            lvl_e = np.nan
+        reason = "; ".join([*([reason] if reason else []), *fame_words])
+        how = f"{how}; {'; '.join(fame_words)}"
     return {
         "sample": sample, "group": group, "target": f"{name} (all its limits)",
         "property": "all", "kind": "", "limit": np.nan,
         "highest_level_pct_v": lvl, "highest_level_with_error_pct_v": lvl_e, "how": how,
         "diesel_value": np.nan, "diesel_misses": diesel_misses, "reason": reason,
-        "source": t0.source,
+        "source": t0.source + (f"; FAME: {BLEND_SPEC_FAME_STANDARD[group][1]}"
+                               if group in BLEND_SPEC_FAME_STANDARD else ""),
     }
 
 
@@ -254,6 +334,7 @@ def _take(fame: FameComponent, rows) -> FameComponent:
         saturated_mole_fraction=fame.saturated_mole_fraction[sl],
         melting_point_C=fame.melting_point_C,
         enthalpy_fusion_kJ_mol=fame.enthalpy_fusion_kJ_mol,
+        conformity={k: tuple(v[i] for i in sl) for k, v in fame.conformity.items()},
     )
 
 
@@ -261,6 +342,13 @@ def _take(fame: FameComponent, rows) -> FameComponent:
 BLEND_SPEC_FAME_CONTENT = {
     "en590": (0.0, 7.0, "EN 590:2022: up to 7.0 % (V/V) FAME (standards.md 3.3, VERIFIED [S20])"),
     "astm-d7467": (6.0, 20.0, "ASTM D7467: B6 to B20 (standards.md 3.2, VERIFIED [S12])"),
+}
+#: The FAME standard each blend specification requires of its FAME, and the source.
+BLEND_SPEC_FAME_STANDARD = {
+    "en590": ("en14214", "EN 590:2022 scope: diesel with up to 7.0 % (V/V) FAME meeting "
+                         "EN 14214 (standards.md 3.3, VERIFIED [S20])"),
+    "astm-d7467": ("astm-d6751", "B100 used in D7467 blends must meet ASTM D6751 before "
+                                 "blending (standards.md 2, VERIFIED [S8][S14])"),
 }
 #: Blend specifications checked by default.
 BLEND_SPECS = tuple(BLEND_SPEC_FAME_CONTENT)
@@ -354,7 +442,9 @@ def summary_table(levels: pd.DataFrame) -> pd.DataFrame:
     (the cautious answer); one column per user target and per specification (all of
     its limits together, capped at the blend range the specification covers). A
     cell that is "none" or B0 names the limiting target and whether the diesel
-    alone misses it; the EN 590 cell of a FAME failing EN 14214 says so instead.
+    alone misses it; a specification cell of a FAME failing (or not judged on) the
+    FAME standard it requires says so instead, and a level given on a condition
+    carries the condition in words.
     """
     shown = levels[(levels["group"] == "target") | (levels["property"] == "all")]
     cells: dict[str, dict[str, str]] = {}
@@ -365,7 +455,7 @@ def summary_table(levels: pd.DataFrame) -> pd.DataFrame:
             order.append(what)
         level, cautious = row.highest_level_pct_v, row.highest_level_with_error_pct_v
         reason = str(getattr(row, "reason", "") or "")
-        if reason.startswith("FAME fails EN 14214"):
+        if row.group != "target" and reason.startswith("FAME ") and np.isnan(level):
             text = reason
         elif np.isnan(level):
             text = "none" + (f": {reason}" if reason else "")
@@ -383,4 +473,5 @@ def summary_table(levels: pd.DataFrame) -> pd.DataFrame:
     return table.reset_index(drop=True).fillna("-")
 
 
-_SPEC_NAMES = {"en590": "EN 590", "astm-d7467": "ASTM D7467"}
+_SPEC_NAMES = {"en590": "EN 590", "astm-d7467": "ASTM D7467", "en14214": "EN 14214",
+               "astm-d6751": "ASTM D6751"}

@@ -63,7 +63,7 @@ quadrature to a mixing-rule error that is zero at B0 and B100 and largest at B50
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -92,7 +92,9 @@ __all__ = [
     "DIESEL_MEAN_MOLAR_MASS_G_MOL",
     "DIESEL_PROPERTIES",
     "Diesel",
+    "FAME_STANDARDS",
     "FameComponent",
+    "FameConformity",
     "blend_arrays",
     "blend_fractions",
     "blend_table",
@@ -163,6 +165,29 @@ _NOTES = {
 
 
 # ---------------------------------------------------------------- neat FAME
+#: FAME standards the neat FAME is checked against: the blend specifications admit only
+#: FAME that meets one of them (EN 590: EN 14214; ASTM D7467: ASTM D6751; see
+#: :data:`estimator.blend_targets.BLEND_SPEC_FAME_STANDARD`).
+FAME_STANDARDS = ("en14214", "astm-d6751")
+
+
+@dataclass(frozen=True)
+class FameConformity:
+    """How one neat FAME stands against one FAME standard.
+
+    ``limits``: ``(property, verdict)`` for every limited property whose verdict is
+    not "meets" (the worst verdict of the property; verdicts of
+    :data:`estimator.specs.VERDICTS`), in the standard's table order.
+    """
+
+    standard: str
+    limits: tuple[tuple[str, str], ...] = ()
+
+    def properties(self, *verdicts: str) -> list[str]:
+        """The properties with one of ``verdicts``, in table order."""
+        return [p for p, v in self.limits if v in verdicts]
+
+
 @dataclass(frozen=True)
 class FameComponent:
     """Neat-FAME inputs of the mixing rules, one entry per sample (arrays of shape (n,))."""
@@ -176,11 +201,9 @@ class FameComponent:
     saturated_mole_fraction: np.ndarray  # (n, n_esters), in the neat ester liquid
     melting_point_C: np.ndarray  # (n_esters,)
     enthalpy_fusion_kJ_mol: np.ndarray  # (n_esters,)
-    #: Per sample: the EN 14214 limits the neat FAME fails that no treatment fixes
-    #: ("" when it conforms or was not checked); EN 590 admits only conforming FAME.
-    en14214_failures: tuple[str, ...] = ()
-    #: Per sample: EN 14214 failures a treatment fixes (e.g. an antioxidant dose).
-    en14214_fixable: tuple[str, ...] = ()
+    #: FAME standard key (:data:`FAME_STANDARDS`) -> one :class:`FameConformity` per
+    #: sample: how the neat FAME stands against that standard (empty: not checked).
+    conformity: Mapping[str, tuple[FameConformity, ...]] = field(default_factory=dict)
 
     def __len__(self) -> int:
         return len(self.samples)
@@ -190,9 +213,11 @@ _FAME_PROPERTIES = tuple(p for p in DIESEL_PROPERTIES)
 
 
 def fame_component(
-    wt_pct: np.ndarray, samples: Sequence[str], *, long: pd.DataFrame | None = None
+    wt_pct: np.ndarray, samples: Sequence[str], *, long: pd.DataFrame | None = None,
+    climate_class: str | None = None,
 ) -> FameComponent:
-    """Estimate the neat-FAME properties a blend needs and check the FAME on EN 14214.
+    """Estimate the neat-FAME properties a blend needs and check the FAME against the
+    FAME standards of :data:`FAME_STANDARDS`.
 
     Parameters
     ----------
@@ -204,15 +229,18 @@ def fame_component(
         Long estimates for these samples (default: the default methods of
         ``predict``, :func:`estimator.comparison.long_estimates`); a property with a
         fitted model (``fit:`` method, from ``--model``) is taken from the model.
+    climate_class : str, optional
+        Also check the neat FAME's CFPP against this class of EN 14214.
     """
-    from estimator.comparison import decision_rows, long_estimates, unfixable_failures
+    from estimator import specs
+    from estimator.comparison import decision_rows, long_estimates
 
     w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
     samples = [str(s) for s in samples]
     if long is None:
         long = long_estimates(w, samples)
     long = decision_rows(long)
-    unfixable, fixable = unfixable_failures(long, samples)
+    conformity = _conformity(specs.check(long, FAME_STANDARDS, climate_class), samples)
     prop_col = long["property"].astype(str).to_numpy()
     row_of = {s: i for i, s in enumerate(samples)}
     sample_col = long["sample"].astype(str).to_numpy()
@@ -242,8 +270,25 @@ def fame_component(
         samples=samples, values=values, errors=errors, methods=methods, in_domain=domain,
         mean_molar_mass_g_mol=mean_molar_mass(w), saturated_mole_fraction=x_sat,
         melting_point_C=tm, enthalpy_fusion_kJ_mol=dh,
-        en14214_failures=tuple(unfixable), en14214_fixable=tuple(fixable),
+        conformity=conformity,
     )
+
+
+def _conformity(verdicts: pd.DataFrame, samples: list[str]) -> dict[
+        str, tuple[FameConformity, ...]]:
+    """Per FAME standard, one :class:`FameConformity` per sample from a verdict table."""
+    severity = {"meets": 0, "not estimated": 1, "outside method range": 2,
+                "too close to call": 3, "fails": 4}
+    bad = verdicts[verdicts["verdict"].astype(str) != "meets"]
+    worst: dict[tuple[str, str], dict[str, str]] = {}
+    for sample, spec, prop, verdict in zip(bad["sample"].astype(str), bad["spec"].astype(str),
+                                           bad["property"].astype(str),
+                                           bad["verdict"].astype(str)):
+        by_prop = worst.setdefault((spec, sample), {})
+        old = by_prop.get(prop)
+        by_prop[prop] = verdict if old is None else max(old, verdict, key=severity.get)
+    return {spec: tuple(FameConformity(spec, tuple(worst.get((spec, s), {}).items()))
+                        for s in samples) for spec in FAME_STANDARDS}
 
 
 # ---------------------------------------------------------------- mixing

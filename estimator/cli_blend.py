@@ -22,7 +22,7 @@ from estimator.cli_compare import model_line, model_option, quiet_option
 from estimator.cliutil import CONTEXT, ReportingCommand, emit, input_options, load_inputs
 from estimator.errors import UsageError
 
-__all__ = ["INFEASIBLE_EXIT_CODE", "blend", "mix"]
+__all__ = ["INFEASIBLE_EXIT_CODE", "blend", "mix", "summary_blocks"]
 
 #: Exit status of ``mix`` when no mix of the lots meets every limit.
 INFEASIBLE_EXIT_CODE = 1
@@ -147,8 +147,10 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     wax, CFPP linearly by volume with a wide error. The highest level meeting a
     target is found by bisection on the continuous blend curve, also with the
     stated error taken against the blend. A level that is none or B0 says why
-    (the limiting limit, and whether the diesel alone misses it); EN 590 admits only
-    FAME that meets EN 14214. The diesel file needs only the properties the
+    (the limiting limit, and whether the diesel alone misses it). EN 590 admits only
+    FAME that meets EN 14214, ASTM D7467 only FAME that meets ASTM D6751: a FAME
+    failing its standard, or not judged on it, gets no level there, and words beside
+    a level say what it still depends on. The diesel file needs only the properties the
     question uses (the targets' properties, and density for mass fractions); the
     others are left empty in the table.
 
@@ -176,7 +178,8 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
         from estimator.comparison import long_estimates
 
         long = long_estimates(profile, models=models)
-    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long)
+    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long,
+                                   climate_class=climate_class)
     table = (blending.blend_table(fame, fuel, grid, methods="all") if methods == "all"
              else blending.blend_wide(fame, fuel, grid))
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
@@ -217,24 +220,51 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     click.echo("\n" + footer)
 
 
-def _summary_text(table) -> str:
-    from estimator.report.tables import format_table
+#: Width the highest-level summary wraps its words at.
+_SUMMARY_WIDTH = 100
 
+
+def summary_blocks(table) -> str:
+    """The highest levels of :func:`estimator.blend_targets.summary_table`, one block per
+    FAME: each target and its level, with the words beside the level wrapped under it."""
+    import textwrap
+
+    heads = [str(c) for c in table.columns[1:]]
+    width = max(len(h) for h in heads) if heads else 0
+    keep = ("EN 14214", "EN 590", "ASTM D6751", "ASTM D7467")  # never split across lines
+    lines = []
+    for _, row in table.iterrows():
+        lines += [""] if lines else []
+        lines.append(f"FAME {row['sample']}")
+        for head in heads:
+            text = str(row[head])
+            for name in (*keep, "<= ", ">= "):
+                text = text.replace(name, name.replace(" ", "\u00a0"))
+            lines += [line.replace("\u00a0", " ") for line in textwrap.wrap(
+                text, _SUMMARY_WIDTH, initial_indent=f"  {head.ljust(width)}  ",
+                subsequent_indent=" " * (width + 4), break_on_hyphens=False)]
+    return "\n".join(lines)
+
+
+def _summary_text(table) -> str:
     return (
         "Highest blend level (% v/v FAME) meeting each target; in brackets, the highest\n"
         "level with the stated error taken against the blend (the cautious answer).\n"
         "A 'none' or B0 names the limiting limit and whether the diesel alone misses it.\n"
-        "EN 590 admits only FAME that meets EN 14214.\n"
+        "EN 590 admits only FAME that meets EN 14214, ASTM D7467 only FAME that meets\n"
+        "ASTM D6751: a FAME that fails its standard, or cannot be judged on it, gets no\n"
+        "level there; words beside a level give what it still depends on. The B100 CFPP\n"
+        "is not counted: the blend's own CFPP is checked against the climate class.\n"
         "EN 590 allows at most B7; ASTM D7467 covers B6-B20 and sets no cold-flow limit\n"
         "(by agreement between buyer and seller), so its column says nothing about winter.\n\n"
-        + format_table(table, transpose=False)
+        + summary_blocks(table)
     )
 
 
 def _blend_footer(fuel) -> str:
     from estimator.cautions import CAUTION_SHORT
 
-    return (f"diesel: {fuel.name} ({fuel.source}). Cloud point: the higher of the "
+    return (f"diesel: {fuel.name} ({fuel.origin}). Cloud point: the higher of the "
             "saturated-ester liquidus (ideal solubility) and the linear rule by volume; CFPP "
             "linear by volume; both with wide stated errors.\n" + CAUTION_SHORT)
 
@@ -255,6 +285,7 @@ _BLEND_ROWS = (
 def _print_blend(wide, fuel, fame) -> None:
     import pandas as pd
 
+    from estimator.report.labels import column_label
     from estimator.report.tables import format_table
 
     for sample in fame.samples:
@@ -271,9 +302,16 @@ def _print_blend(wide, fuel, fame) -> None:
                                                                     part[f"{prop}_error"])}})
         click.echo(f"FAME {sample} in diesel {fuel.name} (B = % FAME by volume)")
         click.echo(format_table(pd.DataFrame(rows), transpose=False))
-        flags = [f for f in part["flags"] if f]
-        if flags:
-            click.echo(f"  note: {flags[0]}")
+        i = fame.samples.index(sample)
+        outside = [column_label(p, unit=False) for p in fame.in_domain
+                   if not fame.in_domain[p][i]]
+        if len(outside) == 1:
+            click.echo(f"  note: the neat FAME's estimate of {outside[0]} lies outside its "
+                       "method's fitted range; blend values built on it deserve extra doubt")
+        elif outside:
+            names = f"{', '.join(outside[:-1])} and {outside[-1]}"
+            click.echo(f"  note: the neat FAME's estimates of {names} lie outside their "
+                       "methods' fitted ranges; blend values built on them deserve extra doubt")
         click.echo("")
 
 

@@ -56,8 +56,9 @@ def report(scenario_file, models, outdir, allow_outside, svg) -> None:
     if result.blend is not None and result.blend["summary"] is not None:
         click.echo("\nHighest blend level (% v/v FAME; in brackets with the stated error "
                    f"taken against it), diesel {result.blend['diesel'].name}:")
-        summary = result.blend["summary"]
-        click.echo(format_table(summary.rename(columns=for_readers), transpose=False))
+        from estimator.cli_blend import summary_blocks
+
+        click.echo(summary_blocks(result.blend["summary"].rename(columns=for_readers)))
     if result.mix is not None:
         m = result.mix
         line = (f"{m.cost_per_t_fuel:.1f} per t of fuel" if m.feasible

@@ -96,6 +96,13 @@ class Diesel:
         """The stated error of one property (0 when the description gives none)."""
         return float(self.errors.get(prop, 0.0))
 
+    @property
+    def origin(self) -> str:
+        """Where the description comes from, in words: a built-in diesel, or its file."""
+        if not self.source or self.source.startswith("built-in"):
+            return self.source or "described by the caller"
+        return f"from {self.source}"
+
     def has(self, prop: str) -> bool:
         """Whether the description gives ``prop``."""
         return prop in self.values and math.isfinite(float(self.values[prop]))
@@ -129,8 +136,15 @@ def _builtin_diesel(name: str) -> Diesel:
     table = load_table("diesels")
     rows = table[table["diesel"] == name]
     values = dict(zip(rows["property"], rows["value"].astype(float), strict=True))
-    return _make_diesel(values, name, f"built-in typical diesel {name!r} (diesels.csv)", name,
-                        None)
+    return _make_diesel(values, name, _builtin_words(name), name, None)
+
+
+def _builtin_words(name: str) -> str:
+    """Where a built-in diesel comes from, in words (``en590-winter`` -> *built-in typical
+    EN 590 winter diesel*)."""
+    spec, _, season = name.partition("-")
+    spec = {"en590": "EN 590"}.get(spec, spec)
+    return f"built-in typical {spec} {season} diesel" if season else f"built-in typical {spec}"
 
 
 def load_diesel(spec: str, required: Iterable[str] | None = None) -> Diesel:

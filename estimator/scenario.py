@@ -368,7 +368,8 @@ def _run_blend(scenario: Scenario, profile, long=None) -> dict[str, Any]:
     )
     fuel = blending.load_diesel(diesel_source,
                                 blending.needed_properties(t.property for t in targets))
-    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long)
+    fame = blending.fame_component(profile.wt_pct, profile.samples, long=long,
+                                   climate_class=spec.get("climate_class"))
     wide = blending.blend_wide(fame, fuel, grid)
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
     top = float(grid.max()) if grid.max() > 0 else 100.0

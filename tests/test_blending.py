@@ -462,7 +462,7 @@ def test_highest_level_for_a_specification_is_capped_at_its_fame_content():
     levels = bt.highest_levels(fame, b.load_diesel("en590-summer"), bt.blend_targets())
     en590 = levels[(levels["group"] == "en590") & (levels["property"] == "all")].iloc[0]
     assert en590["highest_level_pct_v"] == 7.0
-    assert en590["how"] == "capped at the B7 the specification allows"
+    assert en590["how"].startswith("capped at the B7 the specification allows")
 
 
 def test_summary_table_gives_the_highest_level_per_target_and_the_cautious_one():
@@ -491,3 +491,69 @@ def test_default_blend_cloud_point_never_credits_dilution_of_the_diesel_wax(oil)
     assert (cp >= linear - 1e-9).all()
     assert (cp >= min(cp_f, cp_d) - 1e-9).all()
 
+
+
+# ---------------------------------------------------------------- FAME standard of a blend spec
+def _spec_row(fame, diesel, spec):
+    levels = bt.highest_levels(fame, diesel, bt.blend_targets(specs=[spec]))
+    return levels[(levels["group"] == spec) & (levels["property"] == "all")].iloc[0]
+
+
+def _with(fame, standard, limits):
+    from dataclasses import replace
+
+    return replace(fame, conformity={standard: (b.FameConformity(standard, limits),)})
+
+
+def test_a_fame_not_checked_against_its_standard_gets_no_specification_level():
+    # EN 590: FAME component shall meet EN 14214 (from the standard's scope, EN 590:2022,
+    # standards.md 3.3 [S20]): a FAME nobody checked cannot be admitted
+    row = _spec_row(_fame(_neat()), _diesel(), "en590")
+    assert np.isnan(row["highest_level_pct_v"]) and np.isnan(row["highest_level_with_error_pct_v"])
+    assert row["reason"] == "FAME not checked against the FAME standard EN 590 requires"
+
+
+def test_a_fame_outside_its_methods_range_on_a_d6751_limit_gets_no_d7467_level():
+    # ASTM D7467: the B100 blend stock shall meet ASTM D6751 (from the standard's scope, as
+    # reported in standards.md 2 [S8][S14]); an estimate outside its method's range cannot
+    # show that it does
+    fame = _with(_fame(_neat()), "astm-d6751", (("cetane_number", "outside method range"),))
+    row = _spec_row(fame, _diesel(), "astm-d7467")
+    assert np.isnan(row["highest_level_pct_v"])
+    assert row["reason"] == ("FAME not judged on ASTM D6751 (cetane number: outside the fitted "
+                             "range of the method)")
+
+
+def test_a_limit_too_close_to_call_keeps_the_level_but_not_the_cautious_one():
+    # our rule: the cautious level takes the stated error against the FAME's standard too
+    fame = _with(_fame(_neat()), "en14214", (("cetane_number", "too close to call"),))
+    row = _spec_row(fame, _diesel(), "en590")
+    assert row["highest_level_pct_v"] == 7.0  # EN 590 allows up to B7 (standards.md 3.3)
+    assert np.isnan(row["highest_level_with_error_pct_v"])
+    assert row["reason"] == "cetane number too close to call on EN 14214"
+    cell = bt.summary_table(bt.highest_levels(fame, _diesel(), bt.blend_targets(
+        specs=["en590"]))).loc[0, "EN 590"]
+    assert cell == "B7.0 (none): cetane number too close to call on EN 14214"
+
+
+def test_b100_cfpp_failing_the_climate_class_is_listed_but_not_counted():
+    # EN 590 grade F sets the blend's CFPP <= -20 °C (standards.md 3.4); the neat FAME's own
+    # EN 14214 CFPP is replaced by it for a blend, and the output says so beside the level
+    fame = _with(_fame(_neat(cfpp_C=-10.0)), "en14214", (("cfpp_C", "fails"),))
+    levels = bt.highest_levels(fame, _diesel(cfpp_C=-24.0),
+                               bt.blend_targets(climate_class="F", specs=["en590"]))
+    row = levels[(levels["group"] == "en590") & (levels["property"] == "all")].iloc[0]
+    assert row["highest_level_pct_v"] == 7.0
+    assert row["reason"] == ("B100 CFPP fails EN 14214 (not counted: the blend's CFPP is "
+                             "checked instead)")
+
+
+def test_fame_component_checks_the_climate_class_cfpp_of_en14214_only_when_given():
+    # rapeseed FAME: CFPP about -10 °C (common practice), so it fails EN 14214 arctic class 4
+    # (-44 °C, standards.md 1.2, assumed equal to EN 590's) but is not judged without a class
+    profile = Profile.from_oils(["rapeseed"])
+    plain = b.fame_component(profile.wt_pct, profile.samples)
+    graded = b.fame_component(profile.wt_pct, profile.samples, climate_class="4")
+    assert "cfpp_C" not in dict(plain.conformity["en14214"][0].limits)
+    assert dict(graded.conformity["en14214"][0].limits)["cfpp_C"] == "fails"
+    assert "cfpp_C" not in dict(graded.conformity["astm-d6751"][0].limits)  # no CFPP limit

@@ -63,11 +63,14 @@ def blend_sections(
 
     sections = []
     intro = paragraph(
-        f"FAME blended into {diesel.name} ({diesel.source}). B = % FAME by volume. "
+        f"FAME blended into {diesel.name} ({diesel.origin}). B = % FAME by volume. "
         "Values are estimates with their stated errors. Each cell gives the highest blend "
         "level meeting the target (the root of the continuous blend curve) and, in "
         "brackets, the level with the stated error taken against the blend; a "
-        "specification's level is capped at the FAME content it allows. " + CAUTION_SHORT
+        "specification's level is capped at the FAME content it allows. EN 590 admits only "
+        "FAME that meets EN 14214, ASTM D7467 only FAME that meets ASTM D6751: a FAME that "
+        "fails its standard, or cannot be judged on it, gets no level there, and words beside "
+        "a level say what it still depends on. " + CAUTION_SHORT
     )
     body = intro
     if highest is not None and len(highest):
@@ -121,21 +124,16 @@ def blend_sections(
 
 
 def levels_matrix(highest: pd.DataFrame) -> pd.DataFrame:
-    """Samples x targets: 'B12.3 (B8.1)' per cell, 'none' where no level meets it."""
-    shown = highest[(highest["group"] == "target") | (highest["property"] == "all")]
+    """Samples x targets: 'B12.3 (B8.1)' per cell, with the words that go with it: why a
+    level is none or B0, why a specification gives none for a FAME that fails (or cannot
+    be judged on) its FAME standard, what a level given on a condition depends on."""
+    from estimator.blend_targets import summary_table
 
-    def cell(a: float, b: float) -> str:
-        if np.isnan(a):
-            return "none"
-        return f"B{a:.1f} (" + ("none" if np.isnan(b) else f"B{b:.1f}") + ")"
-
-    frame = shown.assign(cell=[cell(a, b) for a, b in zip(
-        shown["highest_level_pct_v"], shown["highest_level_with_error_pct_v"])])
-    table = frame.pivot(index="sample", columns="target", values="cell")
-    table = table.reindex(index=list(dict.fromkeys(frame["sample"])),
-                          columns=list(dict.fromkeys(frame["target"])))
+    table = summary_table(highest)
     table.columns = [for_readers(c) for c in table.columns]
-    return table.reset_index()
+    for col in table.columns[1:]:
+        table[col] = [str(v).replace("<=", "≤").replace(">=", "≥") for v in table[col]]
+    return table
 
 
 def mix_sections(result, *, figure=None) -> list[Section]:
