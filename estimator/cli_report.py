@@ -49,6 +49,9 @@ def report(scenario_file, models, outdir, allow_outside, svg) -> None:
     ranked = result.comparison.ranked
     cols = [c for c in ("rank", "sample", "decision", "cost_per_t_fuel") if c in ranked.columns]
     shown = ranked[cols].rename(columns={"sample": "lot"})
+    if "cost_per_t_fuel" in shown.columns:  # to the whole currency unit, as compare prints
+        shown["cost_per_t_fuel"] = [("-" if v != v else f"{v:.0f}")
+                                    for v in shown["cost_per_t_fuel"]]
     shown = shown.rename(columns={c: column_label(c) for c in shown.columns})
     click.echo(f"{scenario.title}\n\nLots ranked (those meeting every limit first, then those "
                "in doubt, then failures a treatment fixes, then failures none fixes):")
