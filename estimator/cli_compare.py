@@ -213,9 +213,17 @@ def _print_check_summary(table, failed: int) -> None:
     summary = summarise(table)
     click.echo("\nsummary:")
     for sample, row in summary.iterrows():
-        parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[s]}" for s in summary.columns)
+        parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {_meets_words(row[s])}"
+                          for s in summary.columns)
         click.echo(f"  {sample}: {parts}")
     click.echo(f"\n{failed} of {len(table)} verdicts fail.")
+
+
+def _meets_words(verdict) -> str:
+    """A bare 'meets' says only what was estimated: the properties the tool estimates."""
+    text = str(verdict)
+    return "meets on the properties estimated" + text[len("meets"):] if (
+        text == "meets" or text.startswith("meets;")) else text
 
 
 @click.command(cls=ReportingCommand, context_settings=CONTEXT)
@@ -351,7 +359,8 @@ def _print_ranking(result, *, short: bool) -> None:
         return
     click.echo("\nverdicts:")
     for _, row in r.iterrows():
-        parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {row[f'verdict_{s}']}" for s in result.specs)
+        parts = "; ".join(f"{SPEC_LABELS.get(s, s)} {_meets_words(row[f'verdict_{s}'])}"
+                          for s in result.specs)
         click.echo(f"  {row['sample']}: {parts}")
     notes = [(s, n) for s, n in zip(r["sample"], r["notes"]) if n]
     if notes:
