@@ -190,12 +190,19 @@ class _Model:
         return self._get(prop)
 
     def errors(self, props: Sequence[str], w: np.ndarray) -> dict[str, np.ndarray]:
-        """The stated error of each property on every row of ``w`` (0 for exact ones)."""
+        """The stated error of each property on every row of ``w`` (for the composition
+        limits: the GC repeatability of the composition)."""
         from estimator.properties.predict import estimate
 
         w = np.atleast_2d(w)
         out = {p: np.asarray(self.fitted[p].predict(w).error, dtype=float)
                for p in props if p in self.fitted}
+        exact = [p for p in props if p in self._exact and p not in out]
+        if exact:
+            from estimator.specs import composition_errors
+
+            errs = composition_errors(w)
+            out.update({p: errs[p] for p in exact})
         rest = [p for p in props if p not in out]
         if rest:
             long = estimate(w, [str(i) for i in range(len(w))],

@@ -56,6 +56,7 @@ from estimator.errors import UnknownNameError
 
 __all__ = [
     "EXACT_PROPERTIES",
+    "composition_errors",
     "FAILS_AT",
     "MEASURED_PROPERTIES",
     "MEETS_AT",
@@ -226,21 +227,44 @@ def _limit_rows() -> tuple[pd.DataFrame, tuple[tuple[str, str, str, str | None],
     return table, keys
 
 
+def composition_errors(wt_pct: np.ndarray) -> dict[str, np.ndarray]:
+    """One standard deviation of each composition-limited property from the GC repeatability.
+
+    The linolenic ester and polyene contents are read from the profile itself; their
+    uncertainty is that of the GC areas they sum (the default GC repeatability of
+    :mod:`estimator.properties.uncertainty`, propagated exactly as for every estimate).
+    """
+    from estimator.properties.descriptors import descriptors
+    from estimator.properties.uncertainty import composition_sd
+
+    w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
+
+    def evaluate(ww, names=None):
+        desc = descriptors(ww)
+        return {p: desc[p] for p in (EXACT_PROPERTIES if names is None else names)}
+
+    return composition_sd(evaluate, w)
+
+
 def composition_estimates(wt_pct: np.ndarray, samples: Sequence[str]) -> pd.DataFrame:
-    """Long-format rows for the properties the composition fixes exactly.
+    """Long-format rows for the properties the composition gives directly.
 
     Same columns as the estimates of :mod:`estimator.properties.predict`
-    (sample, property, method, value, unit, error, in_domain, note); error is 0.
+    (sample, property, method, value, unit, error, in_domain, note); the error is
+    the GC repeatability of the composition (:func:`composition_errors`).
     """
     from estimator.properties.descriptors import descriptors
 
-    desc = descriptors(np.asarray(wt_pct, dtype=float))
+    w = np.atleast_2d(np.asarray(wt_pct, dtype=float))
+    desc = descriptors(w)
+    errors = composition_errors(w)
     parts = []
     for prop in EXACT_PROPERTIES:
         parts.append(pd.DataFrame({
             "sample": list(samples), "property": prop, "method": "composition",
-            "value": desc[prop], "unit": "wt %", "error": 0.0, "in_domain": True,
-            "note": "from the profile itself (EN 14214 limits the GC result)",
+            "value": desc[prop], "unit": "wt %", "error": errors[prop], "in_domain": True,
+            "note": "from the profile itself (EN 14214 limits the GC result); error: 1 SD, "
+                    "the GC repeatability of the composition",
         }))
     return pd.concat(parts, ignore_index=True)
 
@@ -332,8 +356,9 @@ def check(
         One row per sample, limit and method: sample, spec, property, estimate,
         error, limit, verdict, then bound (min/max), unit, method, in_domain,
         climate_class, edition, mark, probability_meets. ``error`` (one standard
-        uncertainty) is 0 for limits the composition fixes exactly; an unknown error
-        (NaN) gives no band.
+        uncertainty) of a limit read from the composition is the error given with it
+        (the GC repeatability, from :func:`composition_estimates`), 0 when none is given;
+        elsewhere an unknown error (NaN) gives no band.
 
     Examples
     --------
@@ -374,7 +399,8 @@ def check(
     value = merged["value"].to_numpy(dtype=float)
     limit = merged["limit"].to_numpy(dtype=float)
     exact = merged["exact_from_composition"].to_numpy(dtype=bool)
-    error = np.where(exact, 0.0, merged["error"].to_numpy(dtype=float))
+    given = merged["error"].to_numpy(dtype=float)
+    error = np.where(exact & ~np.isfinite(given), 0.0, given)  # composition: GC repeatability
     merged["error"] = error
     is_min = merged["bound"].to_numpy() == "min"
     inside = merged["in_domain"].astype(bool).to_numpy() | exact
