@@ -153,7 +153,8 @@ def _predict_to_file(inputs, oils, basis, sum_tolerance, temperatures, models, o
         raise UsageError("give at least one INPUT file or --oil NAME (see --help)")
     kwargs = {"oils": oils, "basis": basis, "sum_tolerance": sum_tolerance,
               "temperatures_C": temperatures, "models": models,
-              "fractions": fractions_requested()}
+              "fractions": fractions_requested(),
+              "notes": lambda note: click.echo(f"note: {note}", err=True)}
     size = sum(os.path.getsize(p) for p in inputs if os.path.isfile(p))
     if output.lower().endswith(".xlsx") and size > 40_000_000:
         from estimator.files import XLSX_MAX_ROWS

@@ -183,7 +183,7 @@ def blend(inputs, oils, basis, sum_tolerance, diesel, levels, max_cfpp, max_clou
     table = (blending.blend_table(fame, fuel, grid, methods="all") if methods == "all"
              else blending.blend_wide(fame, fuel, grid))
     highest = blend_targets.highest_levels(fame, fuel, targets) if targets else None
-    summary = (_summary_text(blend_targets.summary_table(highest))
+    summary = (_summary_text(blend_targets.summary_table(highest), climate_class)
                if highest is not None and not quiet else "")
     footer = _blend_footer(fuel)
     _check_outputs(output, ["levels"] if highest is not None else [], plot, report_path)
@@ -246,15 +246,18 @@ def summary_blocks(table) -> str:
     return "\n".join(lines)
 
 
-def _summary_text(table) -> str:
+def _summary_text(table, climate_class: str | None = None) -> str:
+    cold = ("The B100 CFPP\nis not counted: the blend's own CFPP is checked against the "
+            "climate class.\n" if climate_class is not None else
+            "No --climate-class\nwas given: neither the B100 CFPP nor the blend's CFPP is "
+            "judged, so EN 590\nsays nothing about winter here.\n")
     return (
         "Highest blend level (% v/v FAME) meeting each target; in brackets, the highest\n"
         "level with the stated error taken against the blend (the cautious answer).\n"
         "A 'none' or B0 names the limiting limit and whether the diesel alone misses it.\n"
         "EN 590 admits only FAME that meets EN 14214, ASTM D7467 only FAME that meets\n"
         "ASTM D6751: a FAME that fails its standard, or cannot be judged on it, gets no\n"
-        "level there; words beside a level give what it still depends on. The B100 CFPP\n"
-        "is not counted: the blend's own CFPP is checked against the climate class.\n"
+        "level there; words beside a level give what it still depends on. " + cold +
         "EN 590 allows at most B7; ASTM D7467 covers B6-B20 and sets no cold-flow limit\n"
         "(by agreement between buyer and seller), so its column says nothing about winter.\n\n"
         + summary_blocks(table)

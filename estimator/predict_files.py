@@ -42,6 +42,7 @@ def predict_to_file(
     models: Sequence[str] = (),
     chunk_rows: int = CHUNK_ROWS,
     progress: Callable[[int], None] | None = None,
+    notes: Callable[[str], None] | None = None,
     **chunk_options,
 ) -> int:
     """Estimate every sample of ``inputs`` (and built-in ``oils``) into ``output``.
@@ -60,6 +61,9 @@ def predict_to_file(
         Samples per piece.
     progress : callable, optional
         Called with the number of samples of each piece once it is written.
+    notes : callable, optional
+        Called once with each note about a file read (e.g. which column gave the
+        sample ids), before its rows are estimated.
 
     Returns
     -------
@@ -69,11 +73,17 @@ def predict_to_file(
     ids = _SampleIds()
     options = {"temperatures_C": temperatures_C, "models": models}
 
+    said: set[str] = set()
+
     def pieces():
         for path in inputs:
             for part in read_profile_chunks(path, basis=basis, sum_tolerance=sum_tolerance,
                                             chunk_rows=chunk_rows, **chunk_options):
                 ids.add(part, Path(path).name)
+                for note in part.file_notes:  # each piece repeats its file's notes
+                    if notes is not None and note not in said:
+                        said.add(note)
+                        notes(note)
                 yield part
         if oils:
             part = Profile.from_oils(oils)

@@ -433,3 +433,17 @@ def test_blend_notes_name_properties_and_the_diesel_in_words():
     builtin = run(blend, "--oil", "rapeseed", "--diesel", "en590-winter", "--levels", "0,7")
     assert "diesel: en590-winter (built-in typical EN 590 winter diesel)" in builtin.output
     assert "diesels.csv" not in builtin.output
+
+
+def test_without_a_climate_class_the_blend_says_no_cfpp_is_judged():
+    # EN 590's CFPP limit depends on the climate class (common practice: the national
+    # annex names it); without one, the header must not claim a CFPP check
+    result = run(blend, LOTS, "--basis", "fatty-acid", "--diesel", WINTER, "--levels",
+                 "0,5,7,20")
+    assert result.exit_code == 0, result.output
+    assert "No --climate-class\nwas given: neither the B100 CFPP nor the blend's CFPP is" \
+        in result.output
+    assert "checked against the climate class" not in result.output
+    with_class = run(blend, LOTS, "--basis", "fatty-acid", "--diesel", WINTER, "--levels",
+                     "0,5,7,20", "--climate-class", "F")
+    assert "the blend's own CFPP is checked against the" in with_class.output

@@ -144,3 +144,13 @@ def test_a_stopped_predict_leaves_no_worker_and_no_file(tmp_path, how):
     assert b"Traceback" not in err
     time.sleep(0.5)
     assert list(out_dir.iterdir()) == []
+
+
+def test_a_note_about_a_file_read_is_passed_on_once(tmp_path):
+    # the guessed sample-id column must be said with -o too, not only on the terminal path
+    path = tmp_path / "offers.csv"
+    path.write_text("code,C16:0,C18:1\nA,20,80\nB,30,70\n")
+    said = []
+    rows = predict_to_file([path], tmp_path / "out.csv", notes=said.append)
+    assert rows == 2
+    assert len(said) == 1 and "the sample ids are taken from column 'code'" in said[0]

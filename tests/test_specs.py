@@ -207,8 +207,8 @@ def test_a_limit_read_from_the_profile_without_a_band_is_judged_on_the_value():
 
 
 def test_linolenic_ester_near_its_limit_is_too_close_to_call_under_the_gc_repeatability():
-    # EN 14214: linolenic acid methyl ester <= 12 % (m/m); the GC repeatability of the
-    # project (1.5 % of the area, common practice, from memory) gives about 0.18 at 12 %
+    # EN 14214: linolenic acid methyl ester <= 12 % (m/m), the limit itself; the band is
+    # the project's GC repeatability (1.5 % of the area, common practice, from memory)
     from estimator.specs import composition_estimates
     from estimator.tables import composition_row
 
@@ -316,8 +316,8 @@ def test_composition_estimates_are_the_descriptors_with_the_gc_repeatability_ban
     e = composition_estimates(w, ["x"]).set_index("property")
     assert e.loc["linolenic_wt_pct", "value"] == pytest.approx(20.0)
     assert e.loc["pufa4_wt_pct", "value"] == 0.0
-    # the GC repeatability (1.5 % of each area, our default) moved through the
-    # renormalisation: linolenic 20 %, oleate 80 %, our arithmetic
+    # regression test: the project's own GC repeatability (1.5 % of each area, common
+    # practice, from memory) moved through the renormalisation, by hand
     h = np.array([0.015 * 20, 0.015 * 80])  # steps of C18:3 and C18:1
     share = h / (100 + h)
     expected = np.sqrt((share[0] * (100 - 20)) ** 2 + (share[1] * (0 - 20)) ** 2)

@@ -433,7 +433,10 @@ def _park_error(values, spreads):
 
 
 def _pour_point_error(values, spreads):
-    return np.asarray(spreads["cloud_point_C"], dtype=float)
+    # the spread of the cloud-point methods when the caller has it; NaN (no floor) if not
+    cloud = spreads.get("cloud_point_C")
+    return (np.full(np.shape(values), np.nan) if cloud is None
+            else np.asarray(cloud, dtype=float))
 
 
 def _build() -> dict[str, dict[str, Method]]:

@@ -273,6 +273,40 @@ def choose(results: Sequence[CVResult], tolerance: float = TIE_TOLERANCE) -> CVR
     return min(tied, key=lambda r: (r.candidate.complexity, r.rmse))
 
 
+def _choice(results: Sequence[CVResult], best_pub: CVResult | None,
+            tolerance: float) -> tuple[CVResult, CVResult | None]:
+    """The candidate that goes into the model file, and the closest refit left out.
+
+    Without a published method, :func:`choose` decides. With one, only fitted models
+    that beat the best published method by :data:`BEAT_MARGIN` may replace it (the
+    simplest within the tie tolerance among them); if none does, the published method
+    is kept and the fitted model with the lowest CV RMSE is named as the closest.
+
+    Examples
+    --------
+    >>> from estimator.refit.candidates import Candidate
+    >>> def res(name, kind, rank, rmse):
+    ...     return CVResult(Candidate(name, kind, (), rank), np.zeros((1, 1)),
+    ...                     rmse, 0.0, 0.0, 0.0, 0.0)
+    >>> pub = res("published:a", "published", 0, 1.0)
+    >>> near, far = res("ridge:x", "ridge", 4, 0.905), res("gp:x", "gp", 6, 0.89)
+    >>> _choice([pub, near, far], pub, 0.02)[0].candidate.name  # only the GP beats it
+    'gp:x'
+    >>> kept, closest = _choice([pub, near], pub, 0.02)  # 9.5 % lower: not enough
+    >>> kept.candidate.name, closest.candidate.name
+    ('published:a', 'ridge:x')
+    """
+    if best_pub is None:
+        return choose(results, tolerance), None
+    fitted = [r for r in results if r.candidate.kind not in ("published", BASELINE_KIND)]
+    beating = [r for r in fitted if _gain(r, best_pub) >= BEAT_MARGIN]
+    if beating:
+        return choose(beating, tolerance), None
+    closest = min(fitted, key=lambda r: r.rmse) if fitted else None
+    return best_pub, (closest if closest is not None and closest.rmse < best_pub.rmse
+                      else None)
+
+
 @dataclass(frozen=True)
 class PropertyFit:
     """Everything a refit of one property found: scores, held-out predictions, the choice."""
@@ -440,17 +474,13 @@ def fit_property(
     with single_threaded_blas():
         results, skipped, matrices = _evaluate(candidates, wt, y, estimates, samples, splits,
                                                progress)
-        lowest = choose(results, tolerance)
         published = [r for r in results if r.candidate.kind == "published"]
         best_pub = min(published, key=lambda r: r.rmse) if published else None
-        chosen = lowest
-        if (best_pub is not None and lowest.candidate.kind != "published"
-                and _gain(lowest, best_pub) < BEAT_MARGIN):
-            chosen = best_pub  # a refit that does not beat it stays out of the decisions
+        chosen, runner_up = _choice(results, best_pub, tolerance)
         params, notes = chosen.candidate.fit(matrices[chosen.candidate.name], y, seed=seed)
     baseline = results[0]
     statement = _statement(chosen, best_pub, baseline, tolerance, n, property_name,
-                           runner_up=lowest if lowest is not chosen else None)
+                           runner_up=runner_up)
     fit_notes = gp_cost_note(n) if any(r.candidate.kind == "gp" for r in results) else ""
     domain = TrainingDomain.from_training(wt)
     model = FittedModel(
@@ -649,5 +679,6 @@ def _statement(
                 f"{_pct(gain_base)} ({rule}).")
     missed = [what for what, gain in ((pub, gain_pub), (base, gain_base))
               if gain < BEAT_MARGIN]
-    return (f"Chosen: {head}, the lowest CV RMSE here; but it does not beat "
-            f"{' nor '.join(missed)} by {margin}: treat it as no better ({rule}).")
+    return (f"Chosen: {head}. It beats {pub} by {_pct(gain_pub)}, but it does not beat "
+            f"{' nor '.join(missed)} by {margin}: the composition explains little of these "
+            f"measurements, so read its band with care ({rule}).")

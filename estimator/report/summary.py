@@ -262,7 +262,7 @@ def _held_inside(mix) -> list[str]:
     if spec:
         undecided = out.get(str(spec), [])
         if not undecided:
-            held.append(f"every limit of {spec_name(spec)}")
+            held.append(f"every {spec_name(spec)} limit on the properties estimated")
         elif "property" in c.columns:
             from_spec = c["source"].astype(str) != "user" if "source" in c.columns else \
                 pd.Series(True, index=c.index)

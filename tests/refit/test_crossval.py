@@ -321,9 +321,9 @@ def test_a_weak_refit_is_not_said_to_beat_the_mean_baseline():
     fit = fit_property(lab(w, cetane_number=y), "cetane_number")
     assert fit.chosen.r2 < 0.3
     assert fit.chosen.rmse > 0.9 * fit.baseline.rmse
-    assert "It beats" not in fit.statement
-    assert "does not beat" in fit.statement and "the mean-only baseline (CV RMSE " in \
-        fit.statement
+    assert "beats the mean-only baseline" not in fit.statement
+    assert "does not beat the mean-only baseline (CV RMSE " in fit.statement
+    assert "the composition explains little of these measurements" in fit.statement
     assert "by 10 %" in fit.statement and "'beats' means a CV RMSE at least 10 % lower" in \
         fit.statement
 
@@ -377,3 +377,18 @@ def test_the_progress_callback_moves_once_per_fold_fit():
     fit_properties(profile, ["cetane_number"], progress=steps.append)
     assert set(steps) == {1}
     assert len(steps) == total_fits(profile, ["cetane_number"])
+
+
+def test_a_refit_that_beats_the_published_method_is_chosen_even_behind_a_simpler_tie():
+    # regression test of the choice: a ridge 9.5 % below the published method ties (2 %)
+    # with a Gaussian process 11 % below it; only the GP beats it, so the GP is chosen
+    from estimator.refit.crossval import _choice
+
+    pub = CVResult(Candidate("published:a", "published", (), 0), np.zeros((1, 1)), 1.0,
+                   0.0, 0.0, 0.0, 0.0)
+    ridge = _result("ridge:descriptors", 4, 0.905)
+    gp = _result("gp:descriptors", 6, 0.89)
+    chosen, closest = _choice([pub, ridge, gp], pub, 0.02)
+    assert chosen is gp and closest is None
+    chosen, closest = _choice([pub, ridge], pub, 0.02)
+    assert chosen is pub and closest is ridge

@@ -84,7 +84,7 @@ def test_report_command_writes_one_report_with_every_part(tmp_path):
     html_text = (out / "report.html").read_text(encoding="utf-8").replace("&#x27;", "'")
     limits = pd.read_excel(out / "mix.xlsx", sheet_name="limits").set_index("property")
     assert not limits.loc["cetane_number", "in_domain"]
-    assert f"It is held inside every limit of {spec}" not in html_text
+    assert f"It is held inside every {spec} limit" not in html_text
     assert f"It is held inside the {spec} limits on viscosity 40 °C" in html_text
     assert f"each by at least {data['mix']['margin_bands']:g} stated errors" in html_text
     assert (f"cannot decide whether the mix meets {spec} on cetane number; a laboratory "

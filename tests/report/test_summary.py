@@ -34,7 +34,7 @@ def test_a_mix_outside_a_methods_range_never_gets_the_held_inside_every_limit_se
         outside_mix):
     assert (outside_mix.verdicts["verdict"] == "outside method range").any()
     text = summary._mix_html(outside_mix)
-    assert "held inside every limit" not in text
+    assert "held inside every" not in text
     held = text.split("It is held inside ", 1)[1].split(" errors.", 1)[0]
     assert "oxidation" not in held and "viscosity 40 °C" in held
     assert held.endswith("each by at least 1.3 stated")
@@ -58,7 +58,8 @@ def test_a_users_target_outside_its_methods_range_is_not_claimed_held():
                           cost_per_t_fuel=900.0, constraints=c, verdicts=v,
                           spec="astm-d6751", margin_bands=1.3)
     text = summary._mix_html(mix)
-    assert "It is held inside every limit of ASTM D6751, each by at least 1.3" in text
+    assert ("It is held inside every ASTM D6751 limit on the properties estimated, each by "
+            "at least 1.3") in text
     assert "your own targets" not in text  # the only target cannot be decided
     assert "your own target (CFPP ≤ 0 °C)" in summary.mix_undecided_text(mix)
 
@@ -69,8 +70,8 @@ def test_a_mix_inside_every_methods_range_keeps_the_held_inside_every_limit_sent
                                 margin_bands=1.3)
     assert not (mix.verdicts["verdict"] == "outside method range").any()
     text = summary._mix_html(mix)
-    assert "It is held inside every limit of ASTM D6751, each by at least 1.3 stated " \
-           "errors." in text
+    assert ("It is held inside every ASTM D6751 limit on the properties estimated, each by "
+            "at least 1.3 stated errors.") in text
     assert summary.mix_undecided_text(mix) == ""
 
 
