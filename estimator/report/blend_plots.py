@@ -293,18 +293,26 @@ def mix_shares(result, *, title: str | None = None):
         rel = np.clip(rel, -HEADROOM_CAP, HEADROOM_CAP)
         binding = c["binding"].to_numpy(dtype=bool)
         missed = ~c["meets"].to_numpy(dtype=bool)
-        plain = ~binding & ~missed
+        # an estimate outside its method's range cannot decide its limit, whatever the bar
+        outside = (~c["in_domain"].to_numpy(dtype=bool) if "in_domain" in c.columns
+                   else np.zeros(m, dtype=bool))
+        plain = ~binding & ~missed & ~outside
         ax2.barh(y2[plain], rel[plain], height=0.62, color="#88CCEE", edgecolor="#222222",
                  linewidth=0.6)
+        far = outside & ~binding & ~missed
+        ax2.barh(y2[far], rel[far], height=0.62, color="#DDDDDD", hatch="..",
+                 edgecolor="#555555", linewidth=0.6)
         shown = np.where(binding & ~missed & (np.abs(rel) < 0.15), 0.15, rel)
         ax2.barh(y2[binding & ~missed], shown[binding & ~missed],
                  height=0.62, color="#DDCC77", hatch="///", edgecolor="#222222", linewidth=0.6)
         ax2.barh(y2[missed], rel[missed], height=0.62, color="#CC6677", hatch="xx",
                  edgecolor="#222222", linewidth=0.6)
         ax2.axvline(0, color="#000000", linewidth=1.0)
-        for yi, ri, v, b, miss, cap in zip(y2, shown, c["value"], binding, missed, capped):
+        for yi, ri, v, b, miss, cap, out in zip(y2, shown, c["value"], binding, missed, capped,
+                                                outside):
             tag = f"mix {v:.4g}" + ("  (missed)" if miss else "  (binding)" if b else "")
             tag += f"  (> {HEADROOM_CAP:g})" if cap and not b else ""
+            tag += "  outside method range: cannot decide" if out else ""
             ax2.text(max(ri, 0) + 0.1, yi, tag, va="center", ha="left", fontsize=8.5)
         # the cut of 'too close to call': probability 0.9 of meeting, 1.28 standard
         # uncertainties (estimator.specs.MEETS_AT)
@@ -333,6 +341,9 @@ def mix_shares(result, *, title: str | None = None):
         if missed.any():
             handles.append(Patch(facecolor="#CC6677", hatch="xx", edgecolor="#222222",
                                  label="missed"))
+        if far.any():
+            handles.append(Patch(facecolor="#DDDDDD", hatch="..", edgecolor="#555555",
+                                 label="estimate outside its method's range: a lab test decides"))
         fig.legend(handles=handles, loc="outside lower center", ncol=3, frameon=False)
         head = title or (f"Least-cost mix: {result.cost_per_t_fuel:,.0f} per t of fuel"
                          if result.feasible else "No mix meets every limit: least-violating mix")

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 import numpy as np
@@ -120,3 +121,16 @@ def test_mix_shares_marks_missed_limits_of_an_infeasible_case():
     labels = [t.get_text() for t in fig.legends[0].get_texts()]
     assert "missed" in labels
     assert fig._suptitle.get_text() == "No mix meets every limit: least-violating mix"
+
+
+def test_mix_shares_greys_out_a_limit_its_estimate_cannot_decide():
+    # a limit whose estimate lies outside its method's fitted range is no headroom to show
+    lots = read_profile(DEMO / "lots.csv", basis="fatty-acid")
+    result = m.least_cost_mix(lots, m.mix_constraints("en14214", max_cfpp_C=-5), demand_t=1500,
+                              methods={"oxidation_stability_110C_h": "park2008"})
+    constraints = result.constraints.copy()
+    constraints["in_domain"] = constraints["property"] != "cetane_number"
+    fig = mix_shares(dataclasses.replace(result, constraints=constraints))
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
+    assert "estimate outside its method's range: a lab test decides" in labels
+    assert any("outside method range: cannot decide" in t for t in _texts(fig))
