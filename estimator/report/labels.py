@@ -218,13 +218,13 @@ def candidate_name(candidate: str) -> str:
     >>> candidate_name("gp:descriptors")
     'Gaussian process on the descriptors'
     >>> candidate_name("published:knothe2005")
-    "Knothe 2005 pure-ester cetane numbers as published (band: the lab's cross-validation)"
+    "Knothe 2005 pure-ester cetane numbers as published, with the lab's band"
     """
     kind, _, rest = str(candidate).partition(":")
     if kind == "recalibrated":
         return f"{method_name(rest)}, recalibrated to the lab"
     if kind == "published":
-        return f"{method_name(rest)} as published (band: the lab's cross-validation)"
+        return f"{method_name(rest)} as published, with the lab's band"
     names = {"gp": "Gaussian process", "ridge": "ridge regression",
              "pls": "partial least squares", "pls1": "partial least squares",
              "pls2": "partial least squares"}
