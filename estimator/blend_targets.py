@@ -28,6 +28,7 @@ from estimator.blending import (
     blend_arrays,
 )
 from estimator.errors import UnknownNameError, UsageError
+from estimator.specs import SPEC_NAMES
 
 __all__ = [
     "BLEND_SPECS",
@@ -473,5 +474,4 @@ def summary_table(levels: pd.DataFrame) -> pd.DataFrame:
     return table.reset_index(drop=True).fillna("-")
 
 
-_SPEC_NAMES = {"en590": "EN 590", "astm-d7467": "ASTM D7467", "en14214": "EN 14214",
-               "astm-d6751": "ASTM D6751"}
+_SPEC_NAMES = SPEC_NAMES

@@ -59,12 +59,7 @@ KEY_PROPERTIES = (
 )
 
 #: How the specifications are written in tables, legends and the report.
-SPEC_LABELS = {
-    "en14214": "EN 14214",
-    "astm-d6751": "ASTM D6751",
-    "en590": "EN 590",
-    "astm-d7467": "ASTM D7467",
-}
+SPEC_LABELS = specs.SPEC_NAMES
 
 # an estimate outside its method's range groups with "too close to call" (listed first,
 # so the inverse mapping below names group 1 "too close to call")

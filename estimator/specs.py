@@ -61,6 +61,7 @@ __all__ = [
     "MEASURED_PROPERTIES",
     "MEETS_AT",
     "PROPERTY_LABELS",
+    "SPEC_NAMES",
     "VERDICTS",
     "check",
     "climate_classes",
@@ -80,6 +81,10 @@ VERDICTS = ("meets", "too close to call", "fails", "not estimated", "outside met
 MEETS_AT = 0.9
 #: ``probability_meets`` at or below which the verdict is ``fails``.
 FAILS_AT = 0.1
+
+#: How each specification is written for readers (tables, legends, the report, prose).
+SPEC_NAMES = {"en14214": "EN 14214", "astm-d6751": "ASTM D6751", "en590": "EN 590",
+              "astm-d7467": "ASTM D7467"}
 
 #: Properties fixed exactly by the composition (limits on the GC result itself).
 EXACT_PROPERTIES = ("linolenic_wt_pct", "pufa4_wt_pct")

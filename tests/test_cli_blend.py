@@ -146,13 +146,18 @@ def test_mix_prints_shares_cost_limits_and_verdict():
     assert out.rstrip().endswith(CAUTION_SHORT)
 
 
+def _demo_lots(tmp_path: Path, *lots: str) -> Path:
+    """A copy of the invented demo lots file with only the given lots."""
+    lines = Path(LOTS).read_text(encoding="utf-8").splitlines()
+    path = tmp_path / "lots.csv"
+    path.write_text("\n".join([lines[0], *(x for x in lines if x.startswith(lots))]))
+    return path
+
+
 def test_mix_prints_words_for_readers_and_says_which_limits_its_estimates_cannot_decide(
         tmp_path):
     # palm and tallow esters lie beyond the Rancimat method's fitted domain (invented lots)
-    lines = Path(LOTS).read_text(encoding="utf-8").splitlines()
-    lots = tmp_path / "lots.csv"
-    lots.write_text("\n".join([lines[0], *(x for x in lines if x.startswith(("LOT-P1",
-                                                                           "LOT-T1")))]))
+    lots = _demo_lots(tmp_path, "LOT-P1", "LOT-T1")
     result = run(mix, lots, "--basis", "fatty-acid", "--spec", "astm-d6751")
     assert result.exit_code == 0, result.output
     out = result.output
@@ -172,10 +177,7 @@ def test_mix_prints_words_for_readers_and_says_which_limits_its_estimates_cannot
 
 
 def test_mix_meeting_every_limit_says_it_meets_on_the_properties_estimated(tmp_path):
-    lines = Path(LOTS).read_text(encoding="utf-8").splitlines()
-    lots = tmp_path / "lots.csv"
-    lots.write_text("\n".join([lines[0], *(x for x in lines if x.startswith(("LOT-R1",
-                                                                           "LOT-U1")))]))
+    lots = _demo_lots(tmp_path, "LOT-R1", "LOT-U1")
     result = run(mix, lots, "--basis", "fatty-acid", "--spec", "astm-d6751")
     assert result.exit_code == 0, result.output
     assert "verdict with the stated errors: ASTM D6751 meets on the properties estimated\n" \

@@ -14,6 +14,8 @@ from collections.abc import Sequence
 import numpy as np
 import pandas as pd
 
+from estimator.specs import SPEC_NAMES
+
 #: Headroom, in stated errors, below which a verdict is 'too close to call' (p < 0.9).
 _CLOSE_BANDS = 1.2816
 
@@ -37,7 +39,7 @@ _SAMPLE_COLOURS = ("#332288", "#CC6677", "#117733", "#DDAA33", "#88CCEE", "#9999
 _TARGET_COLOUR = "#000000"
 _SPEC_COLOURS = {"en590": "#882255", "astm-d7467": "#44AA99"}
 LIMIT_COLOURS = (_TARGET_COLOUR, *_SPEC_COLOURS.values(), "#555555")
-_SPEC_NAMES = {"en590": "EN 590", "astm-d7467": "ASTM D7467"}
+_SPEC_NAMES = SPEC_NAMES
 _STYLE = {
     "font.size": 10, "axes.titlesize": 11, "axes.titleweight": "bold", "axes.labelsize": 10,
     "xtick.labelsize": 9.5, "ytick.labelsize": 9.5, "legend.fontsize": 9,

@@ -22,9 +22,12 @@ import math
 import re
 from functools import cache
 
+from estimator.specs import SPEC_NAMES
+
 __all__ = [
     "LINEAR_FORM_WORDS",
     "RULE_WORDS",
+    "and_list",
     "readable_cells",
     "candidate_name",
     "column_label",
@@ -171,8 +174,7 @@ _TEMPERATURE_COLUMN = re.compile(r"^(density|kin_viscosity)_(-?\d+(?:\.\d+)?)C_(
 _UNITS = {"1": "", "kg/m3": "kg/m³", "mm2/s": "mm²/s", "g I2/100 g": "g I₂/100 g",
           "degC": "°C", "dimensionless": ""}
 
-_SPECS = {"en14214": "EN 14214", "astm-d6751": "ASTM D6751", "en590": "EN 590",
-          "astm-d7467": "ASTM D7467", "target": "your target"}
+_SPECS = {**SPEC_NAMES, "target": "your target"}
 
 
 def pretty_unit(unit: str) -> str:
@@ -287,6 +289,18 @@ def model_sources(model_properties) -> str:
     """
     return "; ".join(f"{column_label(p, unit=False)} ({for_readers(how)})"
                      for p, how in dict(model_properties or {}).items())
+
+
+def and_list(names) -> str:
+    """Names joined for a sentence: ``a``, ``a and b``, ``a, b and c``.
+
+    Examples
+    --------
+    >>> and_list(["cetane number", "CFPP", "viscosity 40 °C"])
+    'cetane number, CFPP and viscosity 40 °C'
+    """
+    names = [str(n) for n in names]
+    return ", ".join(names[:-1]) + " and " + names[-1] if len(names) > 1 else "".join(names)
 
 
 def spec_name(key: str) -> str:

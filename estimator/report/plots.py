@@ -673,11 +673,10 @@ def _in_domain(estimates: pd.DataFrame, lots: Sequence[str], props: Sequence[str
 def _limiting_specs(limits: pd.DataFrame, prop: str) -> str:
     """The specifications that limit ``prop``, as printed (only those, none other)."""
     from estimator.comparison import SPEC_LABELS
+    from estimator.report.labels import and_list
 
     specs = dict.fromkeys(limits.loc[limits["property"] == prop, "spec"])
-    names = [SPEC_LABELS.get(s, s) for s in specs]
-    return " and ".join(names) if len(names) <= 2 else ", ".join(names[:-1]) + " and " + \
-        names[-1]
+    return and_list(SPEC_LABELS.get(s, s) for s in specs)
 
 
 def comparison_figures(comparison) -> list[Plot]:

@@ -17,6 +17,7 @@ import pandas as pd
 
 from estimator.report.html import Section, bullet_list, paragraph, table_html
 from estimator.report.labels import (
+    and_list,
     candidate_name,
     column_label,
     for_readers,
@@ -183,11 +184,6 @@ def _decimals(error: float) -> int:
     return len(text.split(" ± ")[-1].partition(".")[2]) if np.isfinite(error) else 1
 
 
-def _and(names: Sequence[str]) -> str:
-    names = list(names)
-    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
-
-
 def mix_outside_range(mix) -> dict[str, list[str]]:
     """Per specification key of the mix's verdicts (``target`` for the user's own limits),
     the properties whose estimate for the mix lies outside its method's range."""
@@ -242,11 +238,12 @@ def mix_undecided_text(mix) -> str:
             own = _own_targets(mix, ps) or [column_label(p, unit=False) for p in ps]
             where.append(f"your own target{'s' if len(own) > 1 else ''} ({'; '.join(own)})")
         else:
-            where.append(f"{spec_name(spec)} on {_and(column_label(p, unit=False) for p in ps)}")
+            names = and_list(column_label(p, unit=False) for p in ps)
+            where.append(f"{spec_name(spec)} on {names}")
     one = len(props) == 1
     limits = sum(len(ps) for ps in out.values())
     return (f"The estimate{'' if one else 's'} of "
-            f"{_and(column_label(p, unit=False) for p in props)} for this mix "
+            f"{and_list(column_label(p, unit=False) for p in props)} for this mix "
             f"{'lies' if one else 'lie'} outside the range {'its' if one else 'their'} method "
             f"was fitted on: {'it' if one else 'they'} cannot decide whether the mix meets "
             f"{' or '.join(where)}; a laboratory test by the standard method decides "
@@ -270,7 +267,7 @@ def _held_inside(mix) -> list[str]:
                     if p not in undecided]
             if rest:
                 held.append(f"the {spec_name(spec)} limits on "
-                            f"{_and(column_label(p, unit=False) for p in rest)}")
+                            f"{and_list(column_label(p, unit=False) for p in rest)}")
     own = _own_targets(mix, out.get("target", []), keep=False)
     if own:
         held.append(f"your own targets ({'; '.join(own)})")
